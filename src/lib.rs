@@ -8,5 +8,6 @@
 //! events and must not drive operational decisions.
 
 pub mod atomic;
+pub mod features;
 pub mod progress;
 pub mod sessions;

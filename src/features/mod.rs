@@ -1,0 +1,10 @@
+//! Turn features: what each actor had done, and what the others had, after every turn.
+
+mod spec;
+mod table;
+
+pub use spec::{FeatureParams, FeatureSpec};
+pub use table::{RowKey, TurnSample, TurnTable, build_table, session_table, stable_hash};
+
+#[cfg(test)]
+mod tests;
