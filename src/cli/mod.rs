@@ -1,6 +1,10 @@
 //! The command line: one clap struct per subcommand, whose doc comments are the help text.
 
 pub mod check;
+pub mod features;
+pub mod progress;
+pub mod score;
+pub mod train;
 
 use clap::{Args, Parser, Subcommand};
 use std::path::PathBuf;
@@ -25,6 +29,161 @@ pub struct Cli {
 pub enum Command {
     /// Read session sets and report what they hold and every problem found (file:line: message).
     Check(CheckArgs),
+    /// Learn per-turn win chances from finished sessions, check them on held-out sessions, and
+    /// save the model.
+    Train(TrainArgs),
+    /// Write every session's win chances, turn by turn, from a saved model.
+    Score(ScoreArgs),
+    /// Export the turn table (one row per session, turn and actor) with readable column names.
+    Features(FeaturesArgs),
+}
+
+/// Model kinds on the command line.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum ModelArg {
+    /// Choose by session-grouped validation.
+    Auto,
+    /// Gradient-boosted trees.
+    #[value(alias = "gbdt")]
+    Boosted,
+    /// L2-penalised logistic regression.
+    Logistic,
+}
+
+/// Options of `tellturn train`.
+#[derive(Debug, Args)]
+pub struct TrainArgs {
+    /// Session-set folders to train on.
+    #[arg(required = true, value_name = "SET")]
+    pub sets: Vec<PathBuf>,
+    /// Where to write the model file (JSON).
+    #[arg(long, value_name = "FILE")]
+    pub model_out: PathBuf,
+    /// Which model to fit; `auto` picks the one with the lower validation log loss.
+    #[arg(long, value_enum, default_value = "auto")]
+    pub model: ModelArg,
+    /// Seed of the session split, bins and subsampling (same seed, same model).
+    #[arg(long, default_value_t = 1)]
+    pub seed: u64,
+    /// Share of finished sessions held out as the untouched test set.
+    #[arg(long, default_value_t = 0.2)]
+    pub test_share: f64,
+    /// Folds for session-grouped cross-validation.
+    #[arg(long, default_value_t = 5)]
+    pub folds: usize,
+    /// Early stopping: evaluations of 10 trees without improvement before boosting stops.
+    #[arg(long, default_value_t = 3)]
+    pub patience: usize,
+    /// Skip the learning curve (held-out loss against the number of training sessions).
+    #[arg(long)]
+    pub no_learning_curve: bool,
+    /// Print load, feature, fit and total seconds.
+    #[arg(long)]
+    pub timings: bool,
+    /// No progress on stderr.
+    #[arg(long, short)]
+    pub quiet: bool,
+}
+
+impl TrainArgs {
+    /// The engine's training options from these arguments.
+    pub fn options(&self) -> tellturn::evaluate::train::TrainOptions {
+        use tellturn::evaluate::train::{ModelChoice, TrainOptions};
+        let defaults = TrainOptions::default();
+        TrainOptions {
+            choice: match self.model {
+                ModelArg::Auto => ModelChoice::Auto,
+                ModelArg::Boosted => ModelChoice::Boosted,
+                ModelArg::Logistic => ModelChoice::Logistic,
+            },
+            seed: self.seed,
+            test_share: self.test_share,
+            folds: self.folds,
+            boosted: tellturn::models::BoostedParams {
+                patience: self.patience,
+                ..defaults.boosted.clone()
+            },
+            cross_fit: false,
+            learning_curve: !self.no_learning_curve,
+            ..defaults
+        }
+    }
+}
+
+/// Options of `tellturn score`.
+#[derive(Debug, Args)]
+pub struct ScoreArgs {
+    /// A model file written by `tellturn train`.
+    #[arg(long, value_name = "FILE")]
+    pub model: PathBuf,
+    /// Session-set folders to score (in-progress sessions included).
+    #[arg(required = true, value_name = "SET")]
+    pub sets: Vec<PathBuf>,
+    /// Where to write `session,turn,actor,p_win` rows.
+    #[arg(long, value_name = "FILE.csv")]
+    pub out: PathBuf,
+    /// No progress on stderr.
+    #[arg(long, short)]
+    pub quiet: bool,
+}
+
+/// Options of `tellturn features`.
+#[derive(Debug, Args)]
+pub struct FeaturesArgs {
+    /// The session-set folder.
+    #[arg(value_name = "SET")]
+    pub set: PathBuf,
+    /// Where to write the table (CSV).
+    #[arg(long, value_name = "FILE.csv")]
+    pub out: PathBuf,
+    /// Turns in the recent-window counts.
+    #[arg(long, default_value_t = 5)]
+    pub window: u32,
+    /// Keep a detail word only when it appears in at least this many sessions.
+    #[arg(long, default_value_t = 5)]
+    pub min_word_sessions: usize,
+    /// No progress on stderr.
+    #[arg(long, short)]
+    pub quiet: bool,
+}
+
+/// Load sets, stopping with a clear error when one is unusable; warnings are summarised.
+pub fn load_sets(
+    paths: &[PathBuf],
+    progress: &progress::StderrProgress,
+) -> anyhow::Result<Vec<tellturn::sessions::SessionSet>> {
+    let mut sets = Vec::new();
+    for path in paths {
+        let set = tellturn::sessions::load_set(path);
+        if !set.is_usable() {
+            let first = set
+                .problems
+                .iter()
+                .find(|p| p.severity == tellturn::sessions::Severity::Unusable)
+                .map(|p| p.to_string())
+                .unwrap_or_default();
+            anyhow::bail!(
+                "{} cannot be used: {first}\n(run `tellturn check {}` for every problem)",
+                path.display(),
+                path.display()
+            );
+        }
+        let finished = set.finished().count();
+        progress.note(&format!(
+            "loaded {}: {} sessions ({finished} finished, {} in progress, {} set aside){}",
+            path.display(),
+            set.sessions.len(),
+            set.sessions.len() - finished,
+            set.set_aside.len(),
+            if set.problems.is_empty() {
+                String::new()
+            } else {
+                format!("; {} problem(s) — see `tellturn check`", set.problems.len())
+            }
+        ));
+        sets.push(set);
+    }
+    Ok(sets)
 }
 
 /// Options of `tellturn check`.
@@ -42,6 +201,9 @@ pub struct CheckArgs {
 pub fn run(cli: Cli) -> anyhow::Result<i32> {
     match cli.command {
         Some(Command::Check(args)) => check::run(&args),
+        Some(Command::Train(args)) => train::run(&args),
+        Some(Command::Score(args)) => score::run(&args),
+        Some(Command::Features(args)) => features::run(&args),
         None => {
             use clap::CommandFactory;
             Cli::command().print_help()?;

@@ -4,7 +4,9 @@ mod spec;
 mod table;
 
 pub use spec::{FeatureParams, FeatureSpec};
-pub use table::{RowKey, TurnSample, TurnTable, build_table, session_table, stable_hash};
+pub use table::{
+    RowKey, TurnSample, TurnTable, build_table, session_table, stable_hash, start_table,
+};
 
 #[cfg(test)]
 mod tests;

@@ -265,7 +265,7 @@ pub fn build_table(
                 TurnSample::OneIn { every, seed } => {
                     let id = session.id.clone();
                     Box::new(move |t| {
-                        every <= 1 || stable_hash(seed, &id, t as u64) % every as u64 == 0
+                        every <= 1 || stable_hash(seed, &id, t as u64).is_multiple_of(every as u64)
                     })
                 }
             };
@@ -299,6 +299,32 @@ pub fn session_table(spec: &FeatureSpec, set: &SessionSet, session_index: usize)
         session_index as u32,
         &|_| true,
     );
+    TurnTable {
+        columns: spec.column_names(),
+        rows,
+        values,
+    }
+}
+
+/// Rows for "before the first turn" of a session of `actors` actors: nothing done yet, only the
+/// seat and the actor count are known.
+pub fn start_table(spec: &FeatureSpec, actors: usize) -> TurnTable {
+    let width = spec.width();
+    let mut values = vec![0f32; actors * width];
+    let mut rows = Vec::with_capacity(actors);
+    for a in 0..actors {
+        let row = &mut values[a * width..(a + 1) * width];
+        row[1] = if a == 0 { 1.0 } else { 0.0 };
+        row[2] = a as f32;
+        row[3] = actors as f32;
+        rows.push(RowKey {
+            set: 0,
+            session: 0,
+            turn: 0,
+            actor: a as u8,
+            actors: actors as u8,
+        });
+    }
     TurnTable {
         columns: spec.column_names(),
         rows,

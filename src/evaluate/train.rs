@@ -1,0 +1,659 @@
+//! Training with the golden rule automated: an untouched test share, tuning by session-grouped
+//! validation inside the rest, a final model fitted on all training sessions, and out-of-fold
+//! traces for every finished session.
+
+use super::folds::{Role, SessionKey, Split, split_sessions};
+use crate::analysis::traces::{Trace, TraceSource};
+use crate::features::{FeatureParams, FeatureSpec, TurnSample, TurnTable, build_table};
+use crate::models::win_model::{Fitted, ModelSummary, WinModel, normalise};
+use crate::models::{BoostedParams, FitError, LogisticParams, Matrix};
+use crate::progress::{Cancel, Cancelled, Progress};
+use crate::sessions::SessionSet;
+use serde::Serialize;
+use std::time::Instant;
+
+/// Which model to fit.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum ModelChoice {
+    /// Choose between logistic and boosted by session-grouped validation.
+    Auto,
+    /// Logistic regression.
+    Logistic,
+    /// Boosted trees.
+    Boosted,
+}
+
+/// Below this many training sessions, only a strongly regularised logistic model is fitted.
+pub const SMALL_SET_SESSIONS: usize = 60;
+/// Fewest finished sessions needed to train and check a model.
+pub const MIN_FINISHED_SESSIONS: usize = 8;
+
+/// Settings of a training run.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct TrainOptions {
+    /// Which model to fit.
+    pub choice: ModelChoice,
+    /// Seed of the split, the bins and the subsampling.
+    pub seed: u64,
+    /// Share of finished sessions kept as the untouched test set.
+    pub test_share: f64,
+    /// Folds for cross-validation and cross-fitting.
+    pub folds: usize,
+    /// Feature settings.
+    pub features: FeatureParams,
+    /// Boosted-tree settings (rounds come from early stopping).
+    pub boosted: BoostedParams,
+    /// Fit one model per fold so every training session gets an out-of-fold trace.
+    pub cross_fit: bool,
+    /// Measure held-out log loss against the number of training sessions.
+    pub learning_curve: bool,
+    /// Most turn rows used to fit one model; beyond it turns are sampled deterministically.
+    pub max_rows: usize,
+}
+
+impl Default for TrainOptions {
+    fn default() -> Self {
+        TrainOptions {
+            choice: ModelChoice::Auto,
+            seed: 1,
+            test_share: 0.2,
+            folds: 5,
+            features: FeatureParams::default(),
+            boosted: BoostedParams::default(),
+            cross_fit: true,
+            learning_curve: true,
+            max_rows: 1_500_000,
+        }
+    }
+}
+
+/// Why training could not run.
+#[derive(Debug, thiserror::Error)]
+pub enum TrainError {
+    /// Too few finished sessions.
+    #[error(
+        "only {found} finished session(s); at least {needed} are needed to train a model and check it on sessions it never saw"
+    )]
+    TooFew {
+        /// Finished sessions found.
+        found: usize,
+        /// Needed.
+        needed: usize,
+    },
+    /// No finished session has a winner.
+    #[error("no finished session has a winner (all draws); there is nothing to learn")]
+    NoWinners,
+    /// A set is unusable.
+    #[error("set `{0}` is unusable; run `tellturn check` on it to see why")]
+    Unusable(String),
+    /// Fitting failed.
+    #[error("fitting failed: {0}")]
+    Fit(#[from] FitError),
+    /// Cancelled.
+    #[error("cancelled")]
+    Cancelled,
+}
+
+impl From<Cancelled> for TrainError {
+    fn from(_: Cancelled) -> Self {
+        TrainError::Cancelled
+    }
+}
+
+/// One tuning candidate and how it did on validation sessions.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct TuningRecord {
+    /// The candidate, in words (`logistic, penalty 0.01`).
+    pub candidate: String,
+    /// Mean validation log loss per turn row.
+    pub valid_log_loss: f64,
+    /// Rounds chosen by early stopping (boosted only).
+    pub rounds: Option<usize>,
+    /// Whether it was chosen.
+    pub chosen: bool,
+}
+
+/// One point of the learning curve.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct LearningPoint {
+    /// Training sessions used.
+    pub sessions: usize,
+    /// Held-out log loss per turn row on the test sessions.
+    pub log_loss: f64,
+}
+
+/// Seconds spent in each stage.
+#[derive(Debug, Clone, Default, PartialEq, Serialize)]
+pub struct Timings {
+    /// Building feature tables.
+    pub features: f64,
+    /// Fitting models (tuning, final, cross-fitting, learning curve).
+    pub fit: f64,
+    /// Scoring sessions.
+    pub score: f64,
+    /// Everything.
+    pub total: f64,
+}
+
+/// The result of a training run.
+#[derive(Debug, Clone)]
+pub struct Training {
+    /// The final model, fitted on all training sessions.
+    pub model: WinModel,
+    /// Finished sessions as (set, session), in the order of `split.roles`.
+    pub finished: Vec<(usize, usize)>,
+    /// The split of finished sessions.
+    pub split: Split,
+    /// Traces: out-of-fold for finished sessions (test share, and cross-fitted training
+    /// sessions when cross-fitting ran), scored by the final model for sessions in progress.
+    pub traces: Vec<Trace>,
+    /// Tuning candidates tried.
+    pub tuning: Vec<TuningRecord>,
+    /// Held-out log loss against training sessions.
+    pub learning_curve: Vec<LearningPoint>,
+    /// Notes for the user (small set, sampled turns, forced model kind...).
+    pub notes: Vec<String>,
+    /// Seconds per stage.
+    pub timings: Timings,
+    /// When turns were sampled for fitting: one in this many.
+    pub sampled_one_in: Option<u32>,
+}
+
+/// The hyperparameters chosen by tuning.
+#[derive(Debug, Clone, PartialEq)]
+enum Chosen {
+    Logistic(LogisticParams),
+    Boosted(BoostedParams),
+}
+
+impl Chosen {
+    fn describe(&self) -> String {
+        match self {
+            Chosen::Logistic(p) => format!("logistic regression, L2 penalty {}", p.l2),
+            Chosen::Boosted(p) => format!(
+                "boosted trees, {} rounds, {} leaves, learning rate {}",
+                p.max_rounds, p.max_leaves, p.learning_rate
+            ),
+        }
+    }
+}
+
+struct Ctx<'a> {
+    sets: &'a [&'a SessionSet],
+    spec: FeatureSpec,
+    sample: TurnSample,
+    cancel: &'a Cancel,
+    progress: &'a dyn Progress,
+    timings: Timings,
+}
+
+/// Labels: did the row's actor win; was the session a draw.
+fn labels(sets: &[&SessionSet], table: &TurnTable) -> (Vec<f32>, Vec<f32>) {
+    let mut won = Vec::with_capacity(table.rows.len());
+    let mut draw = Vec::with_capacity(table.rows.len());
+    for k in &table.rows {
+        let s = &sets[k.set as usize].sessions[k.session as usize];
+        won.push(if s.winner_seat() == Some(k.actor as usize) {
+            1.0
+        } else {
+            0.0
+        });
+        draw.push(if s.is_draw() { 1.0 } else { 0.0 });
+    }
+    (won, draw)
+}
+
+/// Mean log loss of normalised chances against won labels.
+fn row_log_loss(chances: &[f64], won: &[f32]) -> f64 {
+    let n = chances.len().max(1) as f64;
+    chances
+        .iter()
+        .zip(won)
+        .map(|(&p, &y)| {
+            let p = p.clamp(1e-15, 1.0 - 1e-15);
+            if y > 0.5 { -p.ln() } else { -(1.0 - p).ln() }
+        })
+        .sum::<f64>()
+        / n
+}
+
+impl Ctx<'_> {
+    fn table(
+        &mut self,
+        sessions: &[(usize, usize)],
+        sample: TurnSample,
+    ) -> Result<(TurnTable, Matrix), TrainError> {
+        let t0 = Instant::now();
+        let table = build_table(&self.spec, self.sets, sessions, sample, self.cancel)?;
+        let x = Matrix::new(table.rows.len(), table.width(), table.values.clone())?;
+        self.timings.features += t0.elapsed().as_secs_f64();
+        Ok((table, x))
+    }
+
+    /// Fit the win model (and a draw model when the sessions have draws).
+    fn fit(
+        &mut self,
+        chosen: &Chosen,
+        sessions: &[(usize, usize)],
+        valid: Option<&[(usize, usize)]>,
+        stage: &str,
+        with_draw: bool,
+    ) -> Result<(Fitted, Option<Fitted>, usize, Option<usize>), TrainError> {
+        let (table, x) = self.table(sessions, self.sample)?;
+        let (won, draw) = labels(self.sets, &table);
+        let valid_data = match valid {
+            Some(v) => {
+                let (vt, vx) = self.table(v, TurnSample::All)?;
+                let (vwon, _) = labels(self.sets, &vt);
+                Some((vx, vwon))
+            }
+            None => None,
+        };
+        let t0 = Instant::now();
+        let progress = StageProgress {
+            inner: self.progress,
+            stage,
+        };
+        let mut rounds = None;
+        let win = match chosen {
+            Chosen::Logistic(p) => {
+                Fitted::Logistic(p.fit(&x, &won, None, &progress, self.cancel)?)
+            }
+            Chosen::Boosted(p) => {
+                let v = valid_data.as_ref().map(|(vx, vy)| (vx, vy.as_slice()));
+                let m = p.fit(&x, &won, None, v, &progress, self.cancel)?;
+                rounds = Some(m.best_rounds);
+                Fitted::Boosted(m)
+            }
+        };
+        let draw_model = if with_draw && draw.iter().any(|&d| d > 0.5) {
+            let p = LogisticParams {
+                l2: 1e-2,
+                ..LogisticParams::default()
+            };
+            Some(Fitted::Logistic(p.fit(
+                &x,
+                &draw,
+                None,
+                &progress,
+                self.cancel,
+            )?))
+        } else {
+            None
+        };
+        self.timings.fit += t0.elapsed().as_secs_f64();
+        Ok((win, draw_model, table.rows.len(), rounds))
+    }
+
+    /// Validation log loss of a fitted win model on sessions.
+    fn valid_loss(&mut self, win: &Fitted, sessions: &[(usize, usize)]) -> Result<f64, TrainError> {
+        let (table, x) = self.table(sessions, TurnSample::All)?;
+        let (won, _) = labels(self.sets, &table);
+        let raw = win.predict_proba(&x);
+        let c = normalise(&table.rows, &raw, None);
+        Ok(row_log_loss(&c.win, &won))
+    }
+}
+
+/// Passes engine progress on with a stage name of our own.
+struct StageProgress<'a> {
+    inner: &'a dyn Progress,
+    stage: &'a str,
+}
+
+impl Progress for StageProgress<'_> {
+    fn report(&self, _stage: &str, fraction: f64) {
+        self.inner.report(self.stage, fraction);
+    }
+}
+
+/// Score sessions with a model in chunks (bounded memory), returning their traces.
+pub fn score_sessions(
+    model: &WinModel,
+    sets: &[&SessionSet],
+    sessions: &[(usize, usize)],
+    source: impl Fn(usize, usize) -> TraceSource,
+    cancel: &Cancel,
+) -> Result<Vec<Trace>, Cancelled> {
+    let mut traces = Vec::with_capacity(sessions.len());
+    for chunk in sessions.chunks(2_000) {
+        let table = build_table(&model.spec, sets, chunk, TurnSample::All, cancel)?;
+        let chances = model.chances(&table);
+        traces.extend(model.traces_from(&table, &chances, |k| {
+            source(k.set as usize, k.session as usize)
+        }));
+    }
+    Ok(traces)
+}
+
+/// Train on the finished sessions of `sets`.
+pub fn train(
+    sets: &[&SessionSet],
+    options: &TrainOptions,
+    progress: &dyn Progress,
+    cancel: &Cancel,
+) -> Result<Training, TrainError> {
+    let started = Instant::now();
+    for s in sets {
+        if !s.is_usable() {
+            return Err(TrainError::Unusable(s.name.clone()));
+        }
+    }
+    let mut finished = Vec::new();
+    let mut keys = Vec::new();
+    for (si, set) in sets.iter().enumerate() {
+        for (k, s) in set.sessions.iter().enumerate() {
+            if s.is_finished() {
+                finished.push((si, k));
+                keys.push(SessionKey {
+                    set_name: set.name.clone(),
+                    id: s.id.clone(),
+                    winner_seat: s.winner_seat(),
+                    variant: s.variant().map(str::to_string),
+                });
+            }
+        }
+    }
+    if finished.len() < MIN_FINISHED_SESSIONS {
+        return Err(TrainError::TooFew {
+            found: finished.len(),
+            needed: MIN_FINISHED_SESSIONS,
+        });
+    }
+    if keys.iter().all(|k| k.winner_seat.is_none()) {
+        return Err(TrainError::NoWinners);
+    }
+    let folds = options.folds.clamp(2, 10);
+    let split = split_sessions(&keys, options.test_share, folds, options.seed);
+    let pick =
+        |idx: Vec<usize>| -> Vec<(usize, usize)> { idx.into_iter().map(|i| finished[i]).collect() };
+    let train_sessions = pick(split.train());
+    let test_sessions = pick(split.test());
+    let mut notes = Vec::new();
+
+    let in_train: std::collections::HashSet<(usize, usize)> =
+        train_sessions.iter().copied().collect();
+    let spec = FeatureSpec::learn(sets, options.features, |si, k| in_train.contains(&(si, k)));
+
+    // Sample turns when the training rows would exceed the limit.
+    let rows: usize = train_sessions
+        .iter()
+        .map(|&(si, k)| {
+            let s = &sets[si].sessions[k];
+            s.turn_count() * s.actors.len()
+        })
+        .sum();
+    let sampled_one_in =
+        (rows > options.max_rows).then(|| rows.div_ceil(options.max_rows.max(1)) as u32);
+    let sample = match sampled_one_in {
+        Some(every) => {
+            notes.push(format!(
+                "the training sessions have {rows} turn rows; to stay within memory, models were fitted on about one turn in {every} (chosen by a seeded hash, the same every run); every turn is still scored"
+            ));
+            TurnSample::OneIn {
+                every,
+                seed: options.seed,
+            }
+        }
+        None => TurnSample::All,
+    };
+    let mut ctx = Ctx {
+        sets,
+        spec,
+        sample,
+        cancel,
+        progress,
+        timings: Timings::default(),
+    };
+
+    // Tuning, inside the training part only.
+    progress.report("tuning", 0.0);
+    let small = train_sessions.len() < SMALL_SET_SESSIONS;
+    let mut tuning = Vec::new();
+    let fold_of = |i: usize| match split.roles[i] {
+        Role::Fold(f) => f as usize,
+        Role::Test => usize::MAX,
+    };
+    let train_idx = split.train();
+    let fold_sessions = |f: usize, inside: bool| -> Vec<(usize, usize)> {
+        train_idx
+            .iter()
+            .filter(|&&i| (fold_of(i) == f) == inside)
+            .map(|&i| finished[i])
+            .collect()
+    };
+    let mut candidates: Vec<Chosen> = Vec::new();
+    let wants_logistic = small || options.choice != ModelChoice::Boosted;
+    let wants_boosted = !small && options.choice != ModelChoice::Logistic;
+    if small {
+        notes.push(format!(
+            "only {} training sessions: a strongly regularised logistic model was used (boosted trees would overfit); treat every figure as uncertain",
+            train_sessions.len()
+        ));
+        if options.choice == ModelChoice::Boosted {
+            notes.push("boosted trees were asked for, but the set is too small for them".into());
+        }
+    }
+    if wants_logistic {
+        let grid: &[f64] = if small {
+            &[0.03, 0.1, 0.3, 1.0, 3.0]
+        } else {
+            &[1e-4, 1e-3, 1e-2, 0.1]
+        };
+        for &l2 in grid {
+            candidates.push(Chosen::Logistic(LogisticParams {
+                l2,
+                ..LogisticParams::default()
+            }));
+        }
+    }
+    if wants_boosted {
+        let leaves: &[usize] = if train_sessions.len() < 300 {
+            &[7, 15]
+        } else {
+            &[15, 31]
+        };
+        for &max_leaves in leaves {
+            candidates.push(Chosen::Boosted(BoostedParams {
+                max_leaves,
+                seed: options.seed,
+                ..options.boosted.clone()
+            }));
+        }
+    }
+    // Small sets: full grouped k-fold; larger sets: one validation fold (plenty of sessions).
+    let cv_folds: Vec<usize> = if small { (0..folds).collect() } else { vec![0] };
+    let mut best: Option<(f64, Chosen)> = None;
+    let n_candidates = candidates.len();
+    for (ci, cand) in candidates.into_iter().enumerate() {
+        let mut loss = 0.0;
+        let mut rounds_sum = 0usize;
+        let mut counted = 0usize;
+        for &f in &cv_folds {
+            let fit_on = fold_sessions(f, false);
+            let valid = fold_sessions(f, true);
+            if fit_on.is_empty() || valid.is_empty() {
+                continue;
+            }
+            let (win, _, _, rounds) = ctx.fit(&cand, &fit_on, Some(&valid), "tuning", false)?;
+            loss += ctx.valid_loss(&win, &valid)?;
+            rounds_sum += rounds.unwrap_or(0);
+            counted += 1;
+        }
+        progress.report("tuning", (ci + 1) as f64 / n_candidates as f64);
+        if counted == 0 {
+            continue;
+        }
+        let loss = loss / counted as f64;
+        let rounds = match &cand {
+            Chosen::Boosted(_) => Some((rounds_sum / counted).max(1)),
+            Chosen::Logistic(_) => None,
+        };
+        let tuned = match cand {
+            Chosen::Boosted(p) => Chosen::Boosted(BoostedParams {
+                max_rounds: rounds.unwrap_or(p.max_rounds),
+                ..p
+            }),
+            other => other,
+        };
+        tuning.push(TuningRecord {
+            candidate: tuned.describe(),
+            valid_log_loss: loss,
+            rounds,
+            chosen: false,
+        });
+        if best.as_ref().is_none_or(|(b, _)| loss < *b) {
+            best = Some((loss, tuned));
+        }
+    }
+    let Some((best_loss, chosen)) = best else {
+        return Err(TrainError::TooFew {
+            found: finished.len(),
+            needed: MIN_FINISHED_SESSIONS,
+        });
+    };
+    for t in &mut tuning {
+        t.chosen = t.candidate == chosen.describe() && t.valid_log_loss == best_loss;
+    }
+    let choice_text = format!(
+        "{} — lowest validation log loss ({best_loss:.4}) among {} candidate(s) on {}",
+        chosen.describe(),
+        tuning.len(),
+        if small {
+            format!("{folds}-fold session-grouped cross-validation")
+        } else {
+            "a session-grouped validation fold of the training part".to_string()
+        }
+    );
+
+    // The final model, on every training session.
+    progress.report("final fit", 0.0);
+    let (win, draw, trained_rows, _) =
+        ctx.fit(&chosen, &train_sessions, None, "final fit", true)?;
+    let mut model = WinModel {
+        spec: ctx.spec.clone(),
+        win,
+        draw,
+        summary: ModelSummary {
+            created_by: format!("tellturn {}", env!("CARGO_PKG_VERSION")),
+            sets: sets.iter().map(|s| s.name.clone()).collect(),
+            trained_sessions: train_sessions.len(),
+            trained_rows,
+            test_sessions: test_sessions.len(),
+            seed: options.seed,
+            choice: choice_text,
+            settings: format!("{chosen:?}"),
+            test_log_loss: None,
+            test_accuracy: None,
+            notes: Vec::new(),
+        },
+    };
+    progress.report("final fit", 1.0);
+
+    // Traces: test share by the final model; training sessions cross-fitted.
+    let t0 = Instant::now();
+    let mut traces = score_sessions(
+        &model,
+        sets,
+        &test_sessions,
+        |_, _| TraceSource::Test,
+        cancel,
+    )?;
+    ctx.timings.score += t0.elapsed().as_secs_f64();
+    if options.cross_fit {
+        for f in 0..folds {
+            progress.report("cross-fitting", f as f64 / folds as f64);
+            let fit_on = fold_sessions(f, false);
+            let predict = fold_sessions(f, true);
+            if fit_on.is_empty() || predict.is_empty() {
+                continue;
+            }
+            let (win, draw, _, _) = ctx.fit(&chosen, &fit_on, None, "cross-fitting", true)?;
+            let fold_model = WinModel {
+                spec: ctx.spec.clone(),
+                win,
+                draw,
+                summary: ModelSummary::default(),
+            };
+            let t0 = Instant::now();
+            traces.extend(score_sessions(
+                &fold_model,
+                sets,
+                &predict,
+                |_, _| TraceSource::CrossFit { fold: f as u8 },
+                cancel,
+            )?);
+            ctx.timings.score += t0.elapsed().as_secs_f64();
+        }
+        progress.report("cross-fitting", 1.0);
+    }
+    let open: Vec<(usize, usize)> = sets
+        .iter()
+        .enumerate()
+        .flat_map(|(si, s)| {
+            s.sessions
+                .iter()
+                .enumerate()
+                .filter(|(_, x)| !x.is_finished())
+                .map(move |(k, _)| (si, k))
+        })
+        .collect();
+    let t0 = Instant::now();
+    traces.extend(score_sessions(
+        &model,
+        sets,
+        &open,
+        |_, _| TraceSource::Scored,
+        cancel,
+    )?);
+    ctx.timings.score += t0.elapsed().as_secs_f64();
+    traces.sort_by_key(|t| (t.set, t.session));
+
+    // Learning curve: held-out loss on the test share against training sessions used.
+    let mut learning_curve = Vec::new();
+    if options.learning_curve && test_sessions.len() >= 5 {
+        let mut ordered: Vec<(u64, (usize, usize))> = train_sessions
+            .iter()
+            .map(|&(si, k)| {
+                let id = format!("{}\u{1f}{}", sets[si].name, sets[si].sessions[k].id);
+                (crate::features::stable_hash(options.seed, &id, 11), (si, k))
+            })
+            .collect();
+        ordered.sort_unstable();
+        let n = ordered.len();
+        let mut sizes: Vec<usize> = [0.125, 0.25, 0.5, 1.0]
+            .iter()
+            .map(|f| ((n as f64 * f).round() as usize).max(5).min(n))
+            .collect();
+        sizes.dedup();
+        for (i, &m) in sizes.iter().enumerate() {
+            progress.report("learning curve", i as f64 / sizes.len() as f64);
+            let subset: Vec<(usize, usize)> = ordered[..m].iter().map(|x| x.1).collect();
+            let loss = if m == n {
+                ctx.valid_loss(&model.win, &test_sessions)?
+            } else {
+                let (win, _, _, _) = ctx.fit(&chosen, &subset, None, "learning curve", false)?;
+                ctx.valid_loss(&win, &test_sessions)?
+            };
+            learning_curve.push(LearningPoint {
+                sessions: m,
+                log_loss: loss,
+            });
+        }
+        progress.report("learning curve", 1.0);
+    }
+    model.summary.notes = notes.clone();
+    ctx.timings.total = started.elapsed().as_secs_f64();
+    Ok(Training {
+        model,
+        finished,
+        split,
+        traces,
+        tuning,
+        learning_curve,
+        notes,
+        timings: ctx.timings,
+        sampled_one_in,
+    })
+}

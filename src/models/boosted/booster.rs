@@ -1,0 +1,312 @@
+//! The boosting rounds: log-loss gradients, one tree per round, row and feature subsampling,
+//! and early stopping on a validation set.
+
+use rand::SeedableRng;
+use rand::seq::index;
+use rand_chacha::ChaCha8Rng;
+use rayon::prelude::*;
+use serde::{Deserialize, Serialize};
+
+use super::super::fit_error::FitError;
+use super::super::logistic::{sigmoid, softplus};
+use super::super::matrix::Matrix;
+use super::super::weighted_rows::check_labels_and_weights;
+use super::bins::{BinnedData, find_edges};
+use super::params::BoostedParams;
+use super::tree::{GrowInput, Tree, TreeLearner};
+use crate::progress::{Cancel, Progress};
+
+/// Rows per parallel work item for loss sums and score updates; fixed so sums are
+/// deterministic.
+const CHUNK_ROWS: usize = 4096;
+
+/// Losses at one evaluation point.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct EvalRecord {
+    /// Trees fitted so far.
+    pub round: usize,
+    /// Mean (weighted) log loss on the training rows.
+    pub train_loss: f64,
+    /// Mean log loss on the validation rows, when a validation set was given.
+    pub valid_loss: Option<f64>,
+}
+
+/// A fitted boosted-tree model.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Boosted {
+    /// Number of feature columns the model expects.
+    pub n_features: usize,
+    /// Starting margin: log-odds of the (weighted) mean label.
+    pub base_score: f64,
+    /// The kept trees (the first `best_rounds` grown).
+    pub trees: Vec<Tree>,
+    /// Rounds kept: the best validation round, or all rounds without validation.
+    pub best_rounds: usize,
+    /// Losses at each evaluation point, including those after the best round.
+    pub history: Vec<EvalRecord>,
+    /// Total split gain per feature over the kept trees.
+    pub feature_importance: Vec<f64>,
+}
+
+/// Mean weighted log loss of margins against labels, summed in fixed chunk order.
+fn mean_log_loss(scores: &[f64], y: &[f32], weights: Option<&[f32]>) -> f64 {
+    let partials: Vec<(f64, f64)> = scores
+        .par_chunks(CHUNK_ROWS)
+        .enumerate()
+        .map(|(c, s)| {
+            let lo = c * CHUNK_ROWS;
+            let mut loss = 0.0;
+            let mut total = 0.0;
+            for (k, &z) in s.iter().enumerate() {
+                let w = weights.map_or(1.0, |w| f64::from(w[lo + k]));
+                loss += w * (softplus(z) - f64::from(y[lo + k]) * z);
+                total += w;
+            }
+            (loss, total)
+        })
+        .collect();
+    let (loss, total) = partials
+        .iter()
+        .fold((0.0, 0.0), |a, b| (a.0 + b.0, a.1 + b.1));
+    loss / total
+}
+
+fn log_odds_of_mean(y: &[f32], weights: Option<&[f32]>) -> f64 {
+    let (s, t) = y.iter().enumerate().fold((0.0, 0.0), |(s, t), (i, &v)| {
+        let w = weights.map_or(1.0, |w| f64::from(w[i]));
+        (s + w * f64::from(v), t + w)
+    });
+    let mean = (s / t).clamp(1e-12, 1.0 - 1e-12);
+    (mean / (1.0 - mean)).ln()
+}
+
+impl BoostedParams {
+    /// Fits boosted trees with log loss to rows `x`, labels `y` in 0..=1 and optional
+    /// non-negative weights. With `valid`, the validation log loss is measured every
+    /// `eval_every` trees and fitting stops after `patience` evaluations without
+    /// improvement, keeping the best number of rounds. NaN features count as missing and
+    /// always go left (bin 0).
+    pub fn fit(
+        &self,
+        x: &Matrix,
+        y: &[f32],
+        weights: Option<&[f32]>,
+        valid: Option<(&Matrix, &[f32])>,
+        progress: &dyn Progress,
+        cancel: &Cancel,
+    ) -> Result<Boosted, FitError> {
+        self.check()?;
+        check_labels_and_weights(x.n_rows(), y, weights)?;
+        if x.n_cols() == 0 {
+            return Err(FitError::Empty("the matrix has no columns"));
+        }
+        if let Some((vx, vy)) = valid {
+            if vx.n_cols() != x.n_cols() {
+                return Err(FitError::ColumnMismatch {
+                    what: "validation matrix",
+                    expected: x.n_cols(),
+                    actual: vx.n_cols(),
+                });
+            }
+            check_labels_and_weights(vx.n_rows(), vy, None).map_err(|e| match e {
+                FitError::LengthMismatch {
+                    expected, actual, ..
+                } => FitError::LengthMismatch {
+                    what: "validation labels",
+                    expected,
+                    actual,
+                },
+                other => other,
+            })?;
+        }
+        cancel.check()?;
+        progress.report("binning", 0.0);
+        let data = BinnedData::new(x, find_edges(x, self.max_bins, self.seed));
+        let n = x.n_rows();
+        let p = x.n_cols();
+        let base_score = log_odds_of_mean(y, weights);
+        let mut scores = vec![base_score; n];
+        let mut valid_scores = valid.map(|(vx, _)| vec![base_score; vx.n_rows()]);
+        let mut gradients = vec![[0.0f32; 2]; n];
+        let mut learner = TreeLearner::default();
+        let mut trees: Vec<Tree> = Vec::new();
+        let mut history = Vec::new();
+        let mut best_loss = f64::INFINITY;
+        let mut best_rounds = 0;
+        let mut since_best = 0;
+        let subsampling = self.row_subsample < 1.0 || self.feature_subsample < 1.0;
+        for round in 0..self.max_rounds {
+            cancel.check()?;
+            progress.report("boosting", round as f64 / self.max_rounds as f64);
+            // Per-round draws come from (seed, round) so they do not depend on threads.
+            let mut rng = ChaCha8Rng::seed_from_u64(self.seed);
+            rng.set_stream(round as u64 + 1);
+            let in_bag: Option<Vec<u32>> = (self.row_subsample < 1.0).then(|| {
+                let k = ((n as f64 * self.row_subsample).round() as usize).clamp(1, n);
+                let mut rows: Vec<u32> = index::sample(&mut rng, n, k)
+                    .into_iter()
+                    .map(|i| i as u32)
+                    .collect();
+                rows.sort_unstable();
+                rows
+            });
+            let active_list: Vec<usize> = if self.feature_subsample < 1.0 {
+                let k = ((p as f64 * self.feature_subsample).ceil() as usize).clamp(1, p);
+                let mut f = index::sample(&mut rng, p, k).into_vec();
+                f.sort_unstable();
+                f
+            } else {
+                (0..p).collect()
+            };
+            let mut active = vec![false; p];
+            for &j in &active_list {
+                active[j] = true;
+            }
+            gradients
+                .par_chunks_mut(CHUNK_ROWS)
+                .zip(scores.par_chunks(CHUNK_ROWS))
+                .enumerate()
+                .for_each(|(c, (g, s))| {
+                    let lo = c * CHUNK_ROWS;
+                    for (k, (gh, &z)) in g.iter_mut().zip(s).enumerate() {
+                        let w = weights.map_or(1.0, |w| f64::from(w[lo + k]));
+                        let prob = sigmoid(z);
+                        *gh = [
+                            (w * (prob - f64::from(y[lo + k]))) as f32,
+                            (w * prob * (1.0 - prob)) as f32,
+                        ];
+                    }
+                });
+            let tree = learner.grow(&GrowInput {
+                data: &data,
+                gradients: &gradients,
+                rows: in_bag.as_deref(),
+                active: &active,
+                active_list: &active_list,
+                params: self,
+            });
+            self.update_scores(&mut scores, &tree, &learner, &data, in_bag.is_some());
+            if let (Some(vs), Some((vx, _))) = (valid_scores.as_mut(), valid) {
+                vs.par_chunks_mut(CHUNK_ROWS)
+                    .enumerate()
+                    .for_each(|(c, s)| {
+                        for (k, v) in s.iter_mut().enumerate() {
+                            *v += tree.predict_row(vx.row(c * CHUNK_ROWS + k));
+                        }
+                    });
+            }
+            let no_split = tree.nodes.is_empty();
+            trees.push(tree);
+            let done = round + 1;
+            let last = done == self.max_rounds || (no_split && !subsampling);
+            if done % self.eval_every == 0 || last {
+                let train_loss = mean_log_loss(&scores, y, weights);
+                let valid_loss = valid_scores
+                    .as_ref()
+                    .zip(valid)
+                    .map(|(vs, (_, vy))| mean_log_loss(vs, vy, None));
+                history.push(EvalRecord {
+                    round: done,
+                    train_loss,
+                    valid_loss,
+                });
+                if let Some(vl) = valid_loss {
+                    if vl < best_loss {
+                        best_loss = vl;
+                        best_rounds = done;
+                        since_best = 0;
+                    } else {
+                        since_best += 1;
+                        if since_best >= self.patience {
+                            break;
+                        }
+                    }
+                }
+            }
+            if last {
+                break;
+            }
+        }
+        progress.report("boosting", 1.0);
+        if valid.is_none() {
+            best_rounds = trees.len();
+        }
+        trees.truncate(best_rounds);
+        let mut feature_importance = vec![0.0; p];
+        for t in &trees {
+            for node in &t.nodes {
+                feature_importance[node.feature as usize] += node.gain;
+            }
+        }
+        Ok(Boosted {
+            n_features: p,
+            base_score,
+            trees,
+            best_rounds,
+            history,
+            feature_importance,
+        })
+    }
+
+    /// Adds the new tree's output to every training score: rows of the tree's sample through
+    /// the partition, the others by walking the tree on their bins.
+    fn update_scores(
+        &self,
+        scores: &mut [f64],
+        tree: &Tree,
+        learner: &TreeLearner,
+        data: &BinnedData,
+        subsampled: bool,
+    ) {
+        let partition = learner.partition();
+        if subsampled {
+            let leaf_of = partition.leaf_of();
+            scores
+                .par_chunks_mut(CHUNK_ROWS)
+                .enumerate()
+                .for_each(|(c, s)| {
+                    for (k, v) in s.iter_mut().enumerate() {
+                        let i = c * CHUNK_ROWS + k;
+                        let leaf = leaf_of[i];
+                        *v += if leaf == super::partition::OUT_OF_BAG {
+                            tree.predict_binned(data, i)
+                        } else {
+                            tree.leaf_values[leaf as usize]
+                        };
+                    }
+                });
+        } else {
+            let leaf_of = partition.leaf_of();
+            scores
+                .par_chunks_mut(CHUNK_ROWS)
+                .enumerate()
+                .for_each(|(c, s)| {
+                    for (k, v) in s.iter_mut().enumerate() {
+                        *v += tree.leaf_values[leaf_of[c * CHUNK_ROWS + k] as usize];
+                    }
+                });
+        }
+    }
+}
+
+impl Boosted {
+    /// The log-odds for each row; a matrix with the wrong column count gives NaN margins.
+    pub fn predict_margin(&self, x: &Matrix) -> Vec<f64> {
+        if x.n_cols() != self.n_features {
+            return vec![f64::NAN; x.n_rows()];
+        }
+        (0..x.n_rows())
+            .into_par_iter()
+            .with_min_len(256)
+            .map(|i| {
+                let row = x.row(i);
+                self.base_score + self.trees.iter().map(|t| t.predict_row(row)).sum::<f64>()
+            })
+            .collect()
+    }
+
+    /// The win probability for each row.
+    pub fn predict_proba(&self, x: &Matrix) -> Vec<f64> {
+        self.predict_margin(x).into_iter().map(sigmoid).collect()
+    }
+}

@@ -1,0 +1,396 @@
+use rand::{Rng, SeedableRng};
+use rand_chacha::ChaCha8Rng;
+
+use super::*;
+use crate::models::{FitError, Matrix};
+use crate::progress::{Cancel, NoProgress};
+
+/// ESL 2nd ed. §10.1, eq. (10.2) (Hastie, Tibshirani & Friedman; CHECK_VALUES.md): ten
+/// independent standard normal features, y = 1 when Σ x_j² > 9.34 (the median of χ²₁₀).
+fn esl_10_2(n: usize, seed: u64) -> (Matrix, Vec<f32>) {
+    let mut rng = ChaCha8Rng::seed_from_u64(seed);
+    let mut values = Vec::with_capacity(n * 10);
+    let mut y = Vec::with_capacity(n);
+    for _ in 0..n {
+        let mut sum = 0.0f64;
+        for _ in 0..10 {
+            // Box-Muller: one standard normal from two uniforms.
+            let u1: f64 = 1.0 - rng.r#gen::<f64>();
+            let u2: f64 = rng.r#gen::<f64>();
+            let z = (-2.0 * u1.ln()).sqrt() * (2.0 * std::f64::consts::PI * u2).cos();
+            sum += z * z;
+            values.push(z as f32);
+        }
+        y.push(f32::from(sum > 9.34));
+    }
+    (Matrix::new(n, 10, values).unwrap(), y)
+}
+
+fn test_error(model: &Boosted, x: &Matrix, y: &[f32]) -> f64 {
+    let p = model.predict_proba(x);
+    let wrong = p
+        .iter()
+        .zip(y)
+        .filter(|(p, y)| (**p > 0.5) != (**y > 0.5))
+        .count();
+    wrong as f64 / y.len() as f64
+}
+
+fn fit(params: &BoostedParams, x: &Matrix, y: &[f32]) -> Boosted {
+    params
+        .fit(x, y, None, None, &NoProgress, &Cancel::new())
+        .unwrap()
+}
+
+#[test]
+fn esl_single_stump_is_barely_better_than_chance() {
+    // ESL §10.1: a single stump has test error 45.8 % (CHECK_VALUES.md, confirmed).
+    let (x, y) = esl_10_2(2000, 1);
+    let (xt, yt) = esl_10_2(10_000, 2);
+    let stump = BoostedParams {
+        max_rounds: 1,
+        max_leaves: 2,
+        learning_rate: 1.0,
+        ..BoostedParams::default()
+    };
+    let err = test_error(&fit(&stump, &x, &y), &xt, &yt);
+    assert!((0.40..=0.50).contains(&err), "stump test error {err}");
+}
+
+#[test]
+fn esl_boosted_stumps_are_well_under_ten_percent_and_beat_a_deep_tree() {
+    // ESL §10.1: boosted stumps reach 5.8 % after 400 rounds (AdaBoost; we use log loss, so
+    // only "well under 10 %" is asserted) and a 244-node tree has 24.7 % (CHECK_VALUES.md).
+    let (x, y) = esl_10_2(2000, 1);
+    let (xt, yt) = esl_10_2(10_000, 2);
+    let boosted = BoostedParams {
+        max_rounds: 1000,
+        max_leaves: 2,
+        learning_rate: 0.5,
+        min_rows_per_leaf: 10,
+        ..BoostedParams::default()
+    };
+    let boosted_err = test_error(&fit(&boosted, &x, &y), &xt, &yt);
+    assert!(boosted_err < 0.10, "boosted test error {boosted_err}");
+    let deep = BoostedParams {
+        max_rounds: 1,
+        max_leaves: 122,
+        learning_rate: 1.0,
+        min_rows_per_leaf: 5,
+        l2_leaf: 0.0,
+        ..BoostedParams::default()
+    };
+    let deep_err = test_error(&fit(&deep, &x, &y), &xt, &yt);
+    assert!(
+        (0.15..=0.40).contains(&deep_err),
+        "deep tree test error {deep_err}"
+    );
+    assert!(boosted_err < deep_err);
+}
+
+fn breast_cancer() -> (Matrix, Vec<f32>) {
+    // Breast Cancer Wisconsin (Diagnostic), bundled with smartcore 0.4 (an open dataset).
+    let data = smartcore::dataset::breast_cancer::load_dataset();
+    let x = Matrix::new(data.num_samples, data.num_features, data.data).unwrap();
+    let y = data.target.iter().map(|&t| t as f32).collect();
+    (x, y)
+}
+
+#[test]
+fn breast_cancer_held_out_accuracy_is_above_ninety_percent() {
+    // Tree ensembles reach about 0.95 on this set (common practice); assert > 0.9 on a fixed
+    // split (every fourth row held out), with early stopping on the held-out rows.
+    let (x, y) = breast_cancer();
+    let (train, test): (Vec<usize>, Vec<usize>) = (0..x.n_rows()).partition(|i| i % 4 != 0);
+    let (xa, xb) = (x.select_rows(&train), x.select_rows(&test));
+    let ya: Vec<f32> = train.iter().map(|&i| y[i]).collect();
+    let yb: Vec<f32> = test.iter().map(|&i| y[i]).collect();
+    let params = BoostedParams {
+        max_rounds: 300,
+        max_leaves: 8,
+        min_rows_per_leaf: 5,
+        ..BoostedParams::default()
+    };
+    let model = params
+        .fit(
+            &xa,
+            &ya,
+            None,
+            Some((&xb, &yb)),
+            &NoProgress,
+            &Cancel::new(),
+        )
+        .unwrap();
+    let err = test_error(&model, &xb, &yb);
+    assert!(err < 0.1, "{err}");
+    assert_eq!(model.trees.len(), model.best_rounds);
+    let best = model
+        .history
+        .iter()
+        .filter_map(|h| h.valid_loss.map(|v| (h.round, v)))
+        .min_by(|a, b| a.1.total_cmp(&b.1))
+        .unwrap();
+    assert_eq!(best.0, model.best_rounds);
+}
+
+#[test]
+fn training_loss_falls_and_probabilities_stay_in_unit_interval() {
+    let (x, y) = esl_10_2(2000, 3);
+    let model = fit(
+        &BoostedParams {
+            max_rounds: 50,
+            eval_every: 5,
+            ..BoostedParams::default()
+        },
+        &x,
+        &y,
+    );
+    let losses: Vec<f64> = model.history.iter().map(|h| h.train_loss).collect();
+    assert_eq!(losses.len(), 10);
+    assert!(losses.windows(2).all(|w| w[1] < w[0]), "{losses:?}");
+    // The base score alone has loss ln 2 for a balanced label (y is split at the median).
+    assert!(losses[0] < std::f64::consts::LN_2);
+    let mut extreme = Matrix::zeros(3, 10);
+    extreme.set(0, 0, 1e30);
+    extreme.set(1, 3, f32::NAN);
+    extreme.set(2, 5, -1e30);
+    for p in model
+        .predict_proba(&extreme)
+        .into_iter()
+        .chain(model.predict_proba(&x))
+    {
+        assert!((0.0..=1.0).contains(&p));
+    }
+}
+
+#[test]
+fn model_is_bit_identical_at_one_and_two_threads() {
+    let (x, y) = esl_10_2(3000, 4);
+    let (vx, vy) = esl_10_2(500, 5);
+    let params = BoostedParams {
+        max_rounds: 40,
+        row_subsample: 0.7,
+        feature_subsample: 0.6,
+        eval_every: 5,
+        seed: 11,
+        ..BoostedParams::default()
+    };
+    let run = |threads: usize| {
+        rayon::ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build()
+            .unwrap()
+            .install(|| {
+                let m = params
+                    .fit(&x, &y, None, Some((&vx, &vy)), &NoProgress, &Cancel::new())
+                    .unwrap();
+                serde_json::to_string(&m).unwrap()
+            })
+    };
+    let one = run(1);
+    assert_eq!(one, run(2));
+    // A different seed must change the model, or the seed is not used.
+    let other = BoostedParams {
+        seed: 12,
+        ..params.clone()
+    }
+    .fit(&x, &y, None, Some((&vx, &vy)), &NoProgress, &Cancel::new())
+    .unwrap();
+    assert_ne!(one, serde_json::to_string(&other).unwrap());
+}
+
+#[test]
+fn sparse_count_columns_give_the_same_model_as_dense_summation() {
+    // Mostly-zero count columns take the sparse histogram path; the same column with its
+    // zeros shifted to -1 (a dense column with identical ranks) must give the same splits.
+    let mut rng = ChaCha8Rng::seed_from_u64(6);
+    let n = 4000;
+    let mut sparse = Vec::new();
+    let mut dense = Vec::new();
+    let mut y = Vec::new();
+    for _ in 0..n {
+        let a = if rng.r#gen::<f64>() < 0.8 {
+            0.0
+        } else {
+            rng.gen_range(1..6) as f32
+        };
+        let b = if rng.r#gen::<f64>() < 0.9 {
+            0.0
+        } else {
+            rng.gen_range(1..4) as f32
+        };
+        let logit = 0.8 * f64::from(a) - 1.2 * f64::from(b) - 0.5;
+        y.push(f32::from(rng.r#gen::<f64>() < 1.0 / (1.0 + (-logit).exp())));
+        sparse.extend([a, b]);
+        dense.extend([a * 2.0 - 1.0, b * 2.0 - 1.0]);
+    }
+    let params = BoostedParams {
+        max_rounds: 20,
+        max_leaves: 6,
+        ..BoostedParams::default()
+    };
+    let a = fit(&params, &Matrix::new(n, 2, sparse).unwrap(), &y);
+    let b = fit(&params, &Matrix::new(n, 2, dense).unwrap(), &y);
+    for (ta, tb) in a.trees.iter().zip(&b.trees) {
+        for (na, nb) in ta.nodes.iter().zip(&tb.nodes) {
+            assert_eq!(
+                (na.feature, na.threshold_bin),
+                (nb.feature, nb.threshold_bin)
+            );
+            assert!((na.gain - nb.gain).abs() <= 1e-6 * na.gain.abs().max(1.0));
+        }
+    }
+}
+
+#[test]
+fn nan_features_go_left_like_the_smallest_values() {
+    let (mut x, y) = esl_10_2(2000, 7);
+    for i in (0..2000).step_by(7) {
+        x.set(i, 2, f32::NAN);
+    }
+    let model = fit(
+        &BoostedParams {
+            max_rounds: 20,
+            ..BoostedParams::default()
+        },
+        &x,
+        &y,
+    );
+    let mut a = Matrix::zeros(1, 10);
+    a.set(0, 2, f32::NAN);
+    let mut b = Matrix::zeros(1, 10);
+    b.set(0, 2, f32::NEG_INFINITY);
+    assert_eq!(model.predict_margin(&a), model.predict_margin(&b));
+}
+
+#[test]
+fn serialised_model_predicts_the_same() {
+    let (x, y) = esl_10_2(1000, 8);
+    let model = fit(
+        &BoostedParams {
+            max_rounds: 15,
+            ..BoostedParams::default()
+        },
+        &x,
+        &y,
+    );
+    let back: Boosted = serde_json::from_str(&serde_json::to_string(&model).unwrap()).unwrap();
+    // serde_json without its `float_roundtrip` feature may change the last bit of an f64.
+    let (a, b) = (back.predict_margin(&x), model.predict_margin(&x));
+    assert!(
+        a.iter()
+            .zip(&b)
+            .all(|(u, v)| (u - v).abs() <= 1e-12 * v.abs().max(1.0))
+    );
+    assert_eq!(back.trees.len(), 15);
+}
+
+#[test]
+fn cancel_stops_the_fit() {
+    let (x, y) = esl_10_2(500, 9);
+    let cancel = Cancel::new();
+    cancel.cancel();
+    let r = BoostedParams::default().fit(&x, &y, None, None, &NoProgress, &cancel);
+    assert_eq!(r, Err(FitError::Cancelled));
+}
+
+#[test]
+fn cancel_during_the_rounds_stops_the_fit() {
+    struct CancelAt<'a>(&'a Cancel);
+    impl crate::progress::Progress for CancelAt<'_> {
+        fn report(&self, stage: &str, fraction: f64) {
+            if stage == "boosting" && fraction >= 0.1 {
+                self.0.cancel();
+            }
+        }
+    }
+    let (x, y) = esl_10_2(500, 9);
+    let cancel = Cancel::new();
+    let r = BoostedParams {
+        max_rounds: 100,
+        ..BoostedParams::default()
+    }
+    .fit(&x, &y, None, None, &CancelAt(&cancel), &cancel);
+    assert_eq!(r, Err(FitError::Cancelled));
+}
+
+#[test]
+fn invalid_params_and_bad_data_are_rejected() {
+    let (x, y) = esl_10_2(100, 10);
+    let bad = [
+        BoostedParams {
+            max_rounds: 0,
+            ..Default::default()
+        },
+        BoostedParams {
+            learning_rate: 0.0,
+            ..Default::default()
+        },
+        BoostedParams {
+            max_leaves: 1,
+            ..Default::default()
+        },
+        BoostedParams {
+            max_depth: Some(0),
+            ..Default::default()
+        },
+        BoostedParams {
+            min_rows_per_leaf: 0,
+            ..Default::default()
+        },
+        BoostedParams {
+            l2_leaf: -1.0,
+            ..Default::default()
+        },
+        BoostedParams {
+            row_subsample: 0.0,
+            ..Default::default()
+        },
+        BoostedParams {
+            feature_subsample: 1.5,
+            ..Default::default()
+        },
+        BoostedParams {
+            max_bins: 256,
+            ..Default::default()
+        },
+        BoostedParams {
+            eval_every: 0,
+            ..Default::default()
+        },
+        BoostedParams {
+            patience: 0,
+            ..Default::default()
+        },
+        BoostedParams {
+            min_hessian_per_leaf: f64::NAN,
+            ..Default::default()
+        },
+    ];
+    for p in bad {
+        let r = p.fit(&x, &y, None, None, &NoProgress, &Cancel::new());
+        assert!(matches!(r, Err(FitError::InvalidParams(_))), "{p:?}");
+    }
+    let ok = BoostedParams::default();
+    let mut nan_y = y.clone();
+    nan_y[3] = f32::NAN;
+    assert_eq!(
+        ok.fit(&x, &nan_y, None, None, &NoProgress, &Cancel::new()),
+        Err(FitError::NanLabel { row: 3 })
+    );
+    let narrow = Matrix::zeros(10, 3);
+    let r = ok.fit(
+        &x,
+        &y,
+        None,
+        Some((&narrow, &y[..10])),
+        &NoProgress,
+        &Cancel::new(),
+    );
+    assert!(matches!(r, Err(FitError::ColumnMismatch { .. })));
+    let r = ok.fit(&x, &y[..50], None, None, &NoProgress, &Cancel::new());
+    assert!(matches!(r, Err(FitError::LengthMismatch { .. })));
+    let empty = Matrix::new(0, 10, vec![]).unwrap();
+    let r = ok.fit(&empty, &[], None, None, &NoProgress, &Cancel::new());
+    assert!(matches!(r, Err(FitError::Empty(_))));
+}

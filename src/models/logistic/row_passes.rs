@@ -1,0 +1,249 @@
+//! Passes over the rows: loss and gradient, Hessian-vector products and the information
+//! matrix. Each pass splits the rows into fixed chunks, works on the chunks in parallel and
+//! adds the chunk results in chunk order, so results do not depend on the thread count.
+
+use rayon::prelude::*;
+
+use super::super::matrix::Matrix;
+use super::{sigmoid, softplus};
+
+/// Rows per parallel work item; fixed so the summation order is fixed.
+pub const CHUNK_ROWS: usize = 1024;
+
+/// The data and scaling a fit works on. Coefficients `beta` live on the standardised scale
+/// and are mapped to raw-scale weights so the matrix is never copied.
+pub struct Design<'a> {
+    x: &'a Matrix,
+    y: &'a [f32],
+    weights: Option<&'a [f32]>,
+    means: &'a [f64],
+    scales: &'a [f64],
+    free: &'a [bool],
+    total_weight: f64,
+}
+
+/// Dot product of a feature row with raw-scale weights, with four accumulators so the
+/// compiler can keep several additions in flight.
+#[inline]
+fn dot(row: &[f32], u: &[f64]) -> f64 {
+    let mut acc = [0.0f64; 4];
+    let mut rc = row.chunks_exact(4);
+    let mut uc = u.chunks_exact(4);
+    for (r, w) in (&mut rc).zip(&mut uc) {
+        for k in 0..4 {
+            acc[k] += f64::from(r[k]) * w[k];
+        }
+    }
+    let mut tail = 0.0;
+    for (r, w) in rc.remainder().iter().zip(uc.remainder()) {
+        tail += f64::from(*r) * w;
+    }
+    (acc[0] + acc[1]) + (acc[2] + acc[3]) + tail
+}
+
+#[inline]
+fn axpy(out: &mut [f64], a: f64, row: &[f32]) {
+    for (o, &v) in out.iter_mut().zip(row) {
+        *o += a * f64::from(v);
+    }
+}
+
+impl<'a> Design<'a> {
+    /// Wraps validated data.
+    pub fn new(
+        x: &'a Matrix,
+        y: &'a [f32],
+        weights: Option<&'a [f32]>,
+        means: &'a [f64],
+        scales: &'a [f64],
+        free: &'a [bool],
+    ) -> Self {
+        let total_weight =
+            weights.map_or(x.n_rows() as f64, |w| w.iter().map(|&v| f64::from(v)).sum());
+        Self {
+            x,
+            y,
+            weights,
+            means,
+            scales,
+            free,
+            total_weight,
+        }
+    }
+
+    /// Number of coefficients (columns).
+    pub fn n_cols(&self) -> usize {
+        self.x.n_cols()
+    }
+
+    /// Rows in total.
+    pub fn n_rows(&self) -> usize {
+        self.x.n_rows()
+    }
+
+    /// Weighted mean of the labels.
+    pub fn mean_label(&self) -> f64 {
+        let s: f64 = (0..self.n_rows())
+            .map(|i| self.weight(i) * f64::from(self.y[i]))
+            .sum();
+        s / self.total_weight
+    }
+
+    #[inline]
+    fn weight(&self, i: usize) -> f64 {
+        self.weights.map_or(1.0, |w| f64::from(w[i]))
+    }
+
+    fn chunks(&self) -> usize {
+        self.n_rows().div_ceil(CHUNK_ROWS)
+    }
+
+    /// Maps a standardised-scale direction (last entry = intercept) to raw-scale weights and
+    /// offset: z = x·u + c.
+    fn to_raw(&self, v: &[f64]) -> (Vec<f64>, f64) {
+        let p = self.n_cols();
+        let u: Vec<f64> = (0..p)
+            .map(|j| {
+                if self.free[j] {
+                    v[j] / self.scales[j]
+                } else {
+                    0.0
+                }
+            })
+            .collect();
+        let c = v[p] - (0..p).map(|j| self.means[j] * u[j]).sum::<f64>();
+        (u, c)
+    }
+
+    /// Maps raw sums (Σ aᵢxᵢ, Σ aᵢ) back to the standardised coordinates.
+    fn from_raw(&self, raw: &[f64], total: f64) -> Vec<f64> {
+        let p = self.n_cols();
+        let mut g: Vec<f64> = (0..p)
+            .map(|j| {
+                if self.free[j] {
+                    (raw[j] - self.means[j] * total) / self.scales[j]
+                } else {
+                    0.0
+                }
+            })
+            .collect();
+        g.push(total);
+        g
+    }
+
+    /// Mean weighted log loss and its gradient at `theta` (standardised coefficients, then
+    /// the intercept), without the penalty; writes each row's curvature wᵢpᵢ(1−pᵢ)/W.
+    pub fn loss_and_gradient(&self, theta: &[f64], curvature: &mut [f64]) -> (f64, Vec<f64>) {
+        let p = self.n_cols();
+        let (u, c) = self.to_raw(theta);
+        let inv_w = 1.0 / self.total_weight;
+        let partials: Vec<Vec<f64>> = curvature
+            .par_chunks_mut(CHUNK_ROWS)
+            .enumerate()
+            .map(|(chunk, curv)| {
+                // Layout: raw gradient (p), Σ residual, loss.
+                let mut acc = vec![0.0; p + 2];
+                let lo = chunk * CHUNK_ROWS;
+                for (k, d) in curv.iter_mut().enumerate() {
+                    let i = lo + k;
+                    let row = self.x.row(i);
+                    let z = dot(row, &u) + c;
+                    let w = self.weight(i) * inv_w;
+                    let y = f64::from(self.y[i]);
+                    let prob = sigmoid(z);
+                    acc[p + 1] += w * (softplus(z) - y * z);
+                    let r = w * (prob - y);
+                    *d = w * prob * (1.0 - prob);
+                    if r != 0.0 {
+                        axpy(&mut acc[..p], r, row);
+                    }
+                    acc[p] += r;
+                }
+                acc
+            })
+            .collect();
+        let total = sum_in_order(&partials, p + 2);
+        (total[p + 1], self.from_raw(&total[..p], total[p]))
+    }
+
+    /// Hessian of the mean loss (no penalty) times `v`, using the curvature of the last
+    /// `loss_and_gradient` call.
+    pub fn hessian_times(&self, curvature: &[f64], v: &[f64]) -> Vec<f64> {
+        let p = self.n_cols();
+        let (u, c) = self.to_raw(v);
+        let partials: Vec<Vec<f64>> = curvature
+            .par_chunks(CHUNK_ROWS)
+            .enumerate()
+            .map(|(chunk, curv)| {
+                let mut acc = vec![0.0; p + 1];
+                let lo = chunk * CHUNK_ROWS;
+                for (k, &d) in curv.iter().enumerate() {
+                    if d == 0.0 {
+                        continue;
+                    }
+                    let row = self.x.row(lo + k);
+                    let q = d * (dot(row, &u) + c);
+                    axpy(&mut acc[..p], q, row);
+                    acc[p] += q;
+                }
+                acc
+            })
+            .collect();
+        debug_assert_eq!(partials.len(), self.chunks());
+        let total = sum_in_order(&partials, p + 1);
+        self.from_raw(&total[..p], total[p])
+    }
+}
+
+fn sum_in_order(partials: &[Vec<f64>], len: usize) -> Vec<f64> {
+    let mut total = vec![0.0; len];
+    for part in partials {
+        for (t, v) in total.iter_mut().zip(part) {
+            *t += v;
+        }
+    }
+    total
+}
+
+/// Observed information Σ wᵢpᵢ(1−pᵢ)·x̃ᵢx̃ᵢᵀ on the raw scale, x̃ = (1, x_free); row-major
+/// `(k × k)` with `k = free.len() + 1`. `u`, `c`: raw-scale weights and offset.
+pub fn information_matrix(
+    x: &Matrix,
+    weights: Option<&[f32]>,
+    u: &[f64],
+    c: f64,
+    free: &[usize],
+) -> Vec<f64> {
+    let k = free.len() + 1;
+    let n = x.n_rows();
+    let partials: Vec<Vec<f64>> = (0..n.div_ceil(CHUNK_ROWS))
+        .into_par_iter()
+        .map(|chunk| {
+            let mut acc = vec![0.0; k * k];
+            let mut xt = vec![0.0; k];
+            for i in chunk * CHUNK_ROWS..((chunk + 1) * CHUNK_ROWS).min(n) {
+                let row = x.row(i);
+                let prob = sigmoid(dot(row, u) + c);
+                let d = weights.map_or(1.0, |w| f64::from(w[i])) * prob * (1.0 - prob);
+                xt[0] = 1.0;
+                for (a, &j) in free.iter().enumerate() {
+                    xt[a + 1] = f64::from(row[j]);
+                }
+                for r in 0..k {
+                    let dr = d * xt[r];
+                    for s in 0..=r {
+                        acc[r * k + s] += dr * xt[s];
+                    }
+                }
+            }
+            acc
+        })
+        .collect();
+    let mut info = sum_in_order(&partials, k * k);
+    for r in 0..k {
+        for s in 0..r {
+            info[s * k + r] = info[r * k + s];
+        }
+    }
+    info
+}
