@@ -9,6 +9,7 @@
 
 pub mod analysis;
 pub mod atomic;
+pub mod demo;
 pub mod evaluate;
 pub mod features;
 pub mod models;

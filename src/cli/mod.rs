@@ -1,6 +1,7 @@
 //! The command line: one clap struct per subcommand, whose doc comments are the help text.
 
 pub mod check;
+pub mod demo;
 pub mod features;
 pub mod progress;
 pub mod score;
@@ -36,6 +37,40 @@ pub enum Command {
     Score(ScoreArgs),
     /// Export the turn table (one row per session, turn and actor) with readable column names.
     Features(FeaturesArgs),
+    /// Write an invented demo session set (a board-game playtest or a training exercise),
+    /// optionally with the simulator's true win chances.
+    Demo(DemoArgs),
+}
+
+/// Options of `tellturn demo`.
+#[derive(Debug, Args)]
+pub struct DemoArgs {
+    /// Which simulator: `vessmire` (a two-player board-game playtest) or `tarnsluice` (a
+    /// tabletop flood-response exercise).
+    #[arg(long, default_value = "vessmire")]
+    pub scenario: String,
+    /// Rule variant (`A` or `B` for the board game; B changes one rule so games are decided later).
+    #[arg(long)]
+    pub variant: Option<String>,
+    /// Sessions to write (default: 600 for the board game, 17 for the exercise).
+    #[arg(long)]
+    pub sessions: Option<usize>,
+    /// How many of them are still in progress (no outcome; the log stops mid-game).
+    #[arg(long)]
+    pub in_progress: Option<usize>,
+    /// Seed (same seed, same files).
+    #[arg(long, default_value_t = 1)]
+    pub seed: u64,
+    /// Also write truth.csv: each actor's true win chance after every turn, from the simulator's
+    /// full state (for checking what tellturn recovers).
+    #[arg(long)]
+    pub truth: bool,
+    /// The folder to write (created if needed).
+    #[arg(long, value_name = "DIR")]
+    pub out: PathBuf,
+    /// No progress on stderr.
+    #[arg(long, short)]
+    pub quiet: bool,
 }
 
 /// Model kinds on the command line.
@@ -204,6 +239,7 @@ pub fn run(cli: Cli) -> anyhow::Result<i32> {
         Some(Command::Train(args)) => train::run(&args),
         Some(Command::Score(args)) => score::run(&args),
         Some(Command::Features(args)) => features::run(&args),
+        Some(Command::Demo(args)) => demo::run(&args),
         None => {
             use clap::CommandFactory;
             Cli::command().print_help()?;
