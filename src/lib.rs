@@ -14,5 +14,7 @@ pub mod evaluate;
 pub mod features;
 pub mod models;
 pub mod progress;
+pub mod report;
 pub mod sessions;
 pub mod stats;
+pub mod study;

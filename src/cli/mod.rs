@@ -4,6 +4,7 @@ pub mod check;
 pub mod demo;
 pub mod features;
 pub mod progress;
+pub mod report;
 pub mod score;
 pub mod train;
 
@@ -33,6 +34,9 @@ pub enum Command {
     /// Learn per-turn win chances from finished sessions, check them on held-out sessions, and
     /// save the model.
     Train(TrainArgs),
+    /// Train with cross-fitting, analyse when games were decided, what swung them, balance and
+    /// (with --vs or a variant column) the comparison, and write report.html with its tables.
+    Report(ReportArgs),
     /// Write every session's win chances, turn by turn, from a saved model.
     Score(ScoreArgs),
     /// Export the turn table (one row per session, turn and actor) with readable column names.
@@ -94,16 +98,27 @@ pub struct TrainArgs {
     /// Where to write the model file (JSON).
     #[arg(long, value_name = "FILE")]
     pub model_out: PathBuf,
+    /// Training settings.
+    #[command(flatten)]
+    pub train: TrainSettings,
+    /// No progress on stderr.
+    #[arg(long, short)]
+    pub quiet: bool,
+}
+
+/// Training settings shared by `train` and `report`.
+#[derive(Debug, Args)]
+pub struct TrainSettings {
     /// Which model to fit; `auto` picks the one with the lower validation log loss.
     #[arg(long, value_enum, default_value = "auto")]
     pub model: ModelArg,
-    /// Seed of the session split, bins and subsampling (same seed, same model).
+    /// Seed of the session split, bins, subsampling and bootstrap (same seed, same results).
     #[arg(long, default_value_t = 1)]
     pub seed: u64,
     /// Share of finished sessions held out as the untouched test set.
     #[arg(long, default_value_t = 0.2)]
     pub test_share: f64,
-    /// Folds for session-grouped cross-validation.
+    /// Folds for session-grouped cross-validation and cross-fitting.
     #[arg(long, default_value_t = 5)]
     pub folds: usize,
     /// Early stopping: evaluations of 10 trees without improvement before boosting stops.
@@ -112,15 +127,12 @@ pub struct TrainArgs {
     /// Skip the learning curve (held-out loss against the number of training sessions).
     #[arg(long)]
     pub no_learning_curve: bool,
-    /// Print load, feature, fit and total seconds.
+    /// Print seconds spent per stage.
     #[arg(long)]
     pub timings: bool,
-    /// No progress on stderr.
-    #[arg(long, short)]
-    pub quiet: bool,
 }
 
-impl TrainArgs {
+impl TrainSettings {
     /// The engine's training options from these arguments.
     pub fn options(&self) -> tellturn::evaluate::train::TrainOptions {
         use tellturn::evaluate::train::{ModelChoice, TrainOptions};
@@ -143,6 +155,35 @@ impl TrainArgs {
             ..defaults
         }
     }
+}
+
+/// Options of `tellturn report`.
+#[derive(Debug, Args)]
+pub struct ReportArgs {
+    /// Session-set folders (side A; with one set holding two variants, each variant is a side).
+    #[arg(required = true, value_name = "SET")]
+    pub sets: Vec<PathBuf>,
+    /// Session-set folders to compare against (side B, with its own model).
+    #[arg(long, num_args = 1.., value_name = "SET")]
+    pub vs: Vec<PathBuf>,
+    /// Win chance the eventual winner must keep to the end for a game to count as decided.
+    #[arg(long, default_value_t = 0.9)]
+    pub threshold: f64,
+    /// Bootstrap resamples (of whole sessions) for event-impact intervals.
+    #[arg(long, default_value_t = 1000)]
+    pub bootstrap: usize,
+    /// Do not split one set by its `variant` column into sides with their own models.
+    #[arg(long)]
+    pub no_variant_split: bool,
+    /// The folder to write (created if needed; never an input folder).
+    #[arg(long, value_name = "DIR")]
+    pub out: PathBuf,
+    /// Training settings.
+    #[command(flatten)]
+    pub train: TrainSettings,
+    /// No progress on stderr.
+    #[arg(long, short)]
+    pub quiet: bool,
 }
 
 /// Options of `tellturn score`.
@@ -237,6 +278,7 @@ pub fn run(cli: Cli) -> anyhow::Result<i32> {
     match cli.command {
         Some(Command::Check(args)) => check::run(&args),
         Some(Command::Train(args)) => train::run(&args),
+        Some(Command::Report(args)) => report::run(&args),
         Some(Command::Score(args)) => score::run(&args),
         Some(Command::Features(args)) => features::run(&args),
         Some(Command::Demo(args)) => demo::run(&args),

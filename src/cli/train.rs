@@ -16,7 +16,7 @@ pub fn run(args: &TrainArgs) -> anyhow::Result<i32> {
     let sets = load_sets(&args.sets, &progress)?;
     let load_seconds = t0.elapsed().as_secs_f64();
     let refs: Vec<&_> = sets.iter().collect();
-    let options = args.options();
+    let options = args.train.options();
     let mut training = train(&refs, &options, &progress, &cancel)?;
     progress.finish();
     let test: Vec<&_> = training
@@ -32,7 +32,7 @@ pub fn run(args: &TrainArgs) -> anyhow::Result<i32> {
     save_model(&training.model, &args.model_out)?;
     print!("{}", describe(&training, q.as_ref()));
     println!("saved          {}", args.model_out.display());
-    if args.timings {
+    if args.train.timings {
         let t = &training.timings;
         println!(
             "timings        load {load_seconds:.2} s, features {:.2} s, fit {:.2} s, scoring {:.2} s, total {:.2} s",

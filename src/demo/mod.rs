@@ -16,6 +16,7 @@
 //! `(seed, session index, turn)`; rows are gathered in session order. The same options therefore
 //! give byte-identical files at any rayon thread count.
 
+mod rollout_rng;
 pub mod tarnsluice;
 pub mod vessmire;
 mod write;
@@ -40,6 +41,7 @@ pub enum Scenario {
     /// Vessmire: a two-player board-game playtest with a recurring pool of players.
     BoardGame,
     /// Tarnsluice: a tabletop flood-response training exercise, a team against a scenario cell.
+    /// Results drawn from it describe the recorded (simulated) sessions, not real-world events.
     Exercise,
 }
 
@@ -102,7 +104,8 @@ pub struct DemoOptions {
 
 impl DemoOptions {
     /// The defaults for a scenario: 600 finished variant-A playtests for the board game; one
-    /// exercise weekend (16 finished sessions and 1 in progress) for the exercise. Seed 1, no truth.
+    /// exercise weekend (16 finished sessions and 1 in progress) for the exercise. Seed 1, no
+    /// truth.
     pub fn for_scenario(scenario: Scenario) -> Self {
         let (sessions, in_progress) = match scenario {
             Scenario::BoardGame => (600, 0),
@@ -294,6 +297,16 @@ pub(crate) struct SessionRecord {
     pub truth: Vec<TruthRow>,
 }
 
+/// Every session's rows, gathered in session order.
+pub(crate) struct Gathered {
+    /// All events.
+    pub events: Vec<EventRow>,
+    /// All outcomes of finished sessions.
+    pub outcomes: Vec<OutcomeRow>,
+    /// All truth rows, when asked for.
+    pub truth: Option<Vec<TruthRow>>,
+}
+
 /// Run `simulate` for every session index in parallel and gather the rows in session order,
 /// so scheduling never changes the result.
 pub(crate) fn run_sessions<F>(
@@ -303,7 +316,7 @@ pub(crate) fn run_sessions<F>(
     progress: &dyn Progress,
     cancel: &Cancel,
     simulate: F,
-) -> Result<(Vec<EventRow>, Vec<OutcomeRow>, Option<Vec<TruthRow>>), Cancelled>
+) -> Result<Gathered, Cancelled>
 where
     F: Fn(usize) -> Result<SessionRecord, Cancelled> + Sync,
 {
@@ -327,7 +340,11 @@ where
         outcomes.extend(record.outcome);
         truth.extend(record.truth);
     }
-    Ok((events, outcomes, with_truth.then_some(truth)))
+    Ok(Gathered {
+        events,
+        outcomes,
+        truth: with_truth.then_some(truth),
+    })
 }
 
 /// Independent random streams of one set, so that e.g. truth rollouts never shift the sessions.

@@ -31,10 +31,10 @@
 //! traits included), each seeded from (seed, session, turn); exact 1 / 0 once the session is over.
 
 use rand::Rng;
-use rand_chacha::ChaCha8Rng;
 
+use super::rollout_rng::RolloutRng;
 use super::{
-    DemoOptions, DemoSet, EventRow, OutcomeRow, SessionRecord, Stream, TruthRow, pick,
+    DemoOptions, DemoSet, EventRow, Gathered, OutcomeRow, SessionRecord, Stream, TruthRow, pick,
     run_sessions, standard_normal, stream_rng, tilted_cumulative,
 };
 use crate::progress::{Cancel, Cancelled, Progress};
@@ -168,9 +168,15 @@ struct Table {
 /// What happened, in log order.
 enum Happening {
     Inject(usize),
-    Team { label: &'static str, objective: usize },
+    Team {
+        label: &'static str,
+        objective: usize,
+    },
     Met(usize),
-    Cell { label: &'static str, objective: usize },
+    Cell {
+        label: &'static str,
+        objective: usize,
+    },
 }
 
 const PRESSURE_LEVELS: usize = MAX_PRESSURE as usize + 1;
@@ -198,16 +204,13 @@ impl Exercise {
             // pressure.
             cell: std::array::from_fn(|level| {
                 let ease = 1.0 + level as f64 / CELL_EASE_SCALE;
-                let base = CELL_MOVES.map(|(label, _, _, w, t)| {
-                    (if label == "ease_off" { w * ease } else { w }, t)
-                });
+                let base = CELL_MOVES
+                    .map(|(label, _, _, w, t)| (if label == "ease_off" { w * ease } else { w }, t));
                 tilted_cumulative(base, craft)
             }),
         }
     }
-}
 
-impl Exercise {
     /// Play turn `turn` from `table`, reporting each happening to `note` (a no-op in rollouts).
     fn play_turn<R: Rng, F: FnMut(Happening, &Table)>(
         &self,
@@ -296,7 +299,7 @@ impl Exercise {
     }
 
     /// The team's chance to win from `table` after turn `turn`.
-    fn team_chance(&self, table: &Table, turn: u32, rng: &mut ChaCha8Rng) -> f64 {
+    fn team_chance(&self, table: &Table, turn: u32, rng: &mut RolloutRng) -> f64 {
         match table.ending {
             Some(ending) => f64::from(u8::from(ending == Ending::Team)),
             None => {
@@ -422,7 +425,8 @@ fn simulate(opts: &DemoOptions, index: usize, cancel: &Cancel) -> Result<Session
         truth.reserve(2 * kept as usize);
         for (t, after) in (1..=kept).zip(&tables) {
             cancel.check()?;
-            let mut rng = stream_rng(seed, Stream::Truth, index as u64, u64::from(t));
+            let mut seeder = stream_rng(seed, Stream::Truth, index as u64, u64::from(t));
+            let mut rng = RolloutRng::from_chacha(&mut seeder);
             let team = exercise.team_chance(after, t, &mut rng);
             for (actor, p_true) in [(TEAM, team), (CELL, 1.0 - team)] {
                 truth.push(TruthRow {
@@ -447,7 +451,11 @@ pub(super) fn generate(
     progress: &dyn Progress,
     cancel: &Cancel,
 ) -> Result<DemoSet, Cancelled> {
-    let (events, outcomes, truth) = run_sessions(
+    let Gathered {
+        events,
+        outcomes,
+        truth,
+    } = run_sessions(
         opts.sessions,
         opts.truth,
         "simulating tarnsluice sessions",

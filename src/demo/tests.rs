@@ -12,7 +12,13 @@ use std::sync::OnceLock;
 use super::*;
 use crate::progress::{Cancel, NoProgress};
 
-fn options(scenario: Scenario, variant: &str, sessions: usize, seed: u64, truth: bool) -> DemoOptions {
+fn options(
+    scenario: Scenario,
+    variant: &str,
+    sessions: usize,
+    seed: u64,
+    truth: bool,
+) -> DemoOptions {
     DemoOptions {
         scenario,
         variant: variant.to_string(),
@@ -147,10 +153,15 @@ fn truth_covers_every_turn_and_actor_and_never_sums_above_one() {
     let mut sums: BTreeMap<(String, u32), f64> = BTreeMap::new();
     for t in set.truth.as_ref().expect("truth") {
         assert!((0.0..=1.0).contains(&t.p_true));
-        *turns.get_mut(&(t.session.clone(), t.turn)).expect("truth turn is a logged turn") += 1;
+        *turns
+            .get_mut(&(t.session.clone(), t.turn))
+            .expect("truth turn is a logged turn") += 1;
         *sums.entry((t.session.clone(), t.turn)).or_insert(0.0) += t.p_true;
     }
-    assert!(turns.values().all(|&n| n == 2), "two actors per logged turn");
+    assert!(
+        turns.values().all(|&n| n == 2),
+        "two actors per logged turn"
+    );
     assert!(sums.values().all(|&s| s <= 1.0 + 1e-12));
     // A draw is possible, so some sums fall short of one.
     assert!(sums.values().any(|&s| s < 1.0));
@@ -164,7 +175,12 @@ fn variant_b_is_decided_later_than_variant_a() {
             .outcomes
             .iter()
             .filter(|o| o.winner != "draw")
-            .map(|o| f64::from(decided_turn(&traces[&(o.session.clone(), o.winner.clone())], 0.9)))
+            .map(|o| {
+                f64::from(decided_turn(
+                    &traces[&(o.session.clone(), o.winner.clone())],
+                    0.9,
+                ))
+            })
             .collect();
         decided.iter().sum::<f64>() / decided.len() as f64
     };
@@ -195,7 +211,10 @@ fn draws_are_rare() {
         let set = make(&options(Scenario::BoardGame, variant, 2000, 5, false));
         let draws = set.outcomes.iter().filter(|o| o.winner == "draw").count();
         let share = draws as f64 / set.outcomes.len() as f64;
-        assert!((0.003..=0.05).contains(&share), "{variant}: draw share {share:.3}");
+        assert!(
+            (0.003..=0.05).contains(&share),
+            "{variant}: draw share {share:.3}"
+        );
     }
 }
 
@@ -229,7 +248,10 @@ fn skilled_players_show_it_in_their_glean_rate() {
     let set = make(&options(Scenario::BoardGame, "A", 600, 31, false));
     let mut counts: HashMap<&str, (f64, f64)> = HashMap::new();
     for e in &set.events {
-        if matches!(e.event.as_str(), "glean" | "scrape" | "fumble" | "wickburn" | "flare") {
+        if matches!(
+            e.event.as_str(),
+            "glean" | "scrape" | "fumble" | "wickburn" | "flare"
+        ) {
             let c = counts.entry(e.actor.as_str()).or_insert((0.0, 0.0));
             c.0 += f64::from(u8::from(e.event == "glean"));
             c.1 += 1.0;
@@ -261,11 +283,14 @@ fn board_game_sessions_have_the_promised_shape() {
     let set = make(&options(Scenario::BoardGame, "A", 600, 3, false));
     let mut last_turn: HashMap<&str, u32> = HashMap::new();
     let mut rows_per_actor_turn: HashMap<(&str, u32, &str), usize> = HashMap::new();
-    let labels: std::collections::BTreeSet<&str> = set.events.iter().map(|e| e.event.as_str()).collect();
+    let labels: std::collections::BTreeSet<&str> =
+        set.events.iter().map(|e| e.event.as_str()).collect();
     for e in &set.events {
         last_turn.insert(&e.session, e.turn);
         if !e.actor.is_empty() {
-            *rows_per_actor_turn.entry((&e.session, e.turn, &e.actor)).or_default() += 1;
+            *rows_per_actor_turn
+                .entry((&e.session, e.turn, &e.actor))
+                .or_default() += 1;
         }
     }
     let lengths: Vec<u32> = last_turn.values().copied().collect();
@@ -279,12 +304,18 @@ fn board_game_sessions_have_the_promised_shape() {
         let most = if turn == vessmire::QUIRK_TURN { 4 } else { 2 };
         assert!((1..=most).contains(&rows), "{rows} rows on turn {turn}");
     }
-    let routes: std::collections::BTreeSet<&str> = set.outcomes.iter().map(|o| o.victory.as_str()).collect();
+    let routes: std::collections::BTreeSet<&str> =
+        set.outcomes.iter().map(|o| o.victory.as_str()).collect();
     assert_eq!(routes.len(), 3, "every route occurs: {routes:?}");
     let dir = temp_dir("size");
     write_set(&set, &dir).expect("write");
-    let bytes = std::fs::metadata(dir.join("events.csv")).expect("events.csv").len();
-    assert!(bytes <= 4_000_000, "events.csv of 600 sessions is {bytes} bytes");
+    let bytes = std::fs::metadata(dir.join("events.csv"))
+        .expect("events.csv")
+        .len();
+    assert!(
+        bytes <= 4_000_000,
+        "events.csv of 600 sessions is {bytes} bytes"
+    );
     let _ = std::fs::remove_dir_all(&dir);
 }
 
@@ -313,7 +344,10 @@ fn same_seed_gives_identical_sets_at_any_thread_count() {
         let b = std::fs::read(d2.join(file)).expect("read");
         assert!(a == b, "{file} differs");
     }
-    let other_seed = make(&DemoOptions { seed: 12, ..opts.clone() });
+    let other_seed = make(&DemoOptions {
+        seed: 12,
+        ..opts.clone()
+    });
     assert_ne!(one.events, other_seed.events);
     let _ = std::fs::remove_dir_all(&d1);
     let _ = std::fs::remove_dir_all(&d2);
@@ -329,18 +363,30 @@ fn written_files_parse_back_with_the_expected_headers() {
         in_progress: 1,
         ..DemoOptions::for_scenario(Scenario::Exercise)
     };
-    let set = make(&DemoOptions { truth: true, ..opts });
+    let set = make(&DemoOptions {
+        truth: true,
+        ..opts
+    });
     let dir = temp_dir("parse");
     write_set(&set, &dir).expect("write");
 
     let mut events = csv::Reader::from_path(dir.join("events.csv")).expect("events.csv");
     assert_eq!(events.headers().expect("header"), EVENTS_HEADER.as_slice());
-    let parsed: Vec<EventRow> = events.deserialize().collect::<Result<_, _>>().expect("rows");
+    let parsed: Vec<EventRow> = events
+        .deserialize()
+        .collect::<Result<_, _>>()
+        .expect("rows");
     assert_eq!(parsed, set.events);
 
     let mut outcomes = csv::Reader::from_path(dir.join("outcomes.csv")).expect("outcomes.csv");
-    assert_eq!(outcomes.headers().expect("header"), OUTCOMES_HEADER.as_slice());
-    let parsed: Vec<OutcomeRow> = outcomes.deserialize().collect::<Result<_, _>>().expect("rows");
+    assert_eq!(
+        outcomes.headers().expect("header"),
+        OUTCOMES_HEADER.as_slice()
+    );
+    let parsed: Vec<OutcomeRow> = outcomes
+        .deserialize()
+        .collect::<Result<_, _>>()
+        .expect("rows");
     assert_eq!(parsed, set.outcomes);
 
     let mut truth = csv::Reader::from_path(dir.join("truth.csv")).expect("truth.csv");
@@ -361,12 +407,17 @@ fn default_exercise_weekend_has_sixteen_finished_sessions_and_one_in_progress() 
         ..DemoOptions::for_scenario(Scenario::Exercise)
     };
     let set = make(&opts);
-    let sessions: std::collections::BTreeSet<&str> = set.events.iter().map(|e| e.session.as_str()).collect();
+    let sessions: std::collections::BTreeSet<&str> =
+        set.events.iter().map(|e| e.session.as_str()).collect();
     assert_eq!(sessions.len(), 17);
     assert_eq!(set.outcomes.len(), 16);
     for o in &set.outcomes {
         assert!([tarnsluice::TEAM, tarnsluice::CELL].contains(&o.winner.as_str()));
-        assert!(tarnsluice::ROUTES.contains(&o.victory.as_str()), "{}", o.victory);
+        assert!(
+            tarnsluice::ROUTES.contains(&o.victory.as_str()),
+            "{}",
+            o.victory
+        );
         assert_eq!(o.first, tarnsluice::TEAM);
     }
     let neutral = set.events.iter().filter(|e| e.actor.is_empty()).count();
@@ -392,7 +443,11 @@ fn exercise_sessions_last_twenty_to_forty_turns_mostly() {
     let lengths: Vec<u32> = last.values().copied().collect();
     let inside = lengths.iter().filter(|&&l| (18..=40).contains(&l)).count() as f64;
     assert!(inside / lengths.len() as f64 > 0.9);
-    let team = set.outcomes.iter().filter(|o| o.winner == tarnsluice::TEAM).count() as f64;
+    let team = set
+        .outcomes
+        .iter()
+        .filter(|o| o.winner == tarnsluice::TEAM)
+        .count() as f64;
     let share = team / set.outcomes.len() as f64;
     assert!((0.3..=0.7).contains(&share), "team wins {share:.3}");
 }
@@ -416,14 +471,22 @@ fn unfinished_sessions_have_no_outcome_and_a_cut_log() {
     for o in &full.outcomes[25..] {
         let full_last = last(&full, &o.session).expect("logged");
         let cut_last = last(&cut, &o.session).expect("still logged");
-        assert!(cut_last < full_last, "{}: cut at {cut_last} of {full_last}", o.session);
+        assert!(
+            cut_last < full_last,
+            "{}: cut at {cut_last} of {full_last}",
+            o.session
+        );
         // The kept part of the log and its truth are unchanged by the cut.
         let kept: Vec<&EventRow> = full
             .events
             .iter()
             .filter(|e| e.session == o.session && e.turn <= cut_last)
             .collect();
-        let got: Vec<&EventRow> = cut.events.iter().filter(|e| e.session == o.session).collect();
+        let got: Vec<&EventRow> = cut
+            .events
+            .iter()
+            .filter(|e| e.session == o.session)
+            .collect();
         assert_eq!(kept, got);
         let truth_turns = cut
             .truth

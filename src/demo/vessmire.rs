@@ -27,8 +27,8 @@
 //! Tempo quirk: on turn [`QUIRK_TURN`] the moon rises (a neutral `moonrise` row) and the first
 //! player acts twice before the second player acts; the extra action is a gathering that counts
 //! [`MOON_FACTOR`] times (detail `by moonlight`). This gives variant A a first-player advantage
-//! (about 59 % of the sessions are won by the first player, 2 % are drawn) and makes that turn matter more than
-//! its neighbours.
+//! (about 59 % of the sessions are won by the first player, 2 % are drawn) and makes that turn
+//! matter more than its neighbours.
 //!
 //! Variant B changes one rule, a catch-up rule: a player trailing by [`CATCH_UP_GAP`] glow or
 //! more gains one extra glow on every `glean` and `scrape`. Leads are then less safe, so games are
@@ -40,11 +40,11 @@
 //! (seed, session, turn); exact 1 / 0 once the game is over (0 / 0 for a draw).
 
 use rand::Rng;
-use rand_chacha::ChaCha8Rng;
 
+use super::rollout_rng::RolloutRng;
 use super::{
-    DemoOptions, DemoSet, EventRow, HiddenSkill, OutcomeRow, SessionRecord, Stream, TruthRow,
-    pick, run_sessions, standard_normal, stream_rng, tilted_cumulative,
+    DemoOptions, DemoSet, EventRow, Gathered, HiddenSkill, OutcomeRow, SessionRecord, Stream,
+    TruthRow, pick, run_sessions, standard_normal, stream_rng, tilted_cumulative,
 };
 use crate::progress::{Cancel, Cancelled, Progress};
 
@@ -507,7 +507,7 @@ impl Game {
     }
 
     /// Each seat's chance to win from `board` after turn `turn`.
-    fn win_chances(&self, board: &Board, turn: u32, rng: &mut ChaCha8Rng) -> [f64; 2] {
+    fn win_chances(&self, board: &Board, turn: u32, rng: &mut RolloutRng) -> [f64; 2] {
         match board.ending {
             Some(Ending::Win { seat, .. }) => {
                 let mut p = [0.0; 2];
@@ -669,7 +669,8 @@ fn simulate(
         truth.reserve(2 * kept as usize);
         for (t, after) in (1..=kept).zip(&boards) {
             cancel.check()?;
-            let mut rng = stream_rng(seed, Stream::Truth, index as u64, u64::from(t));
+            let mut seeder = stream_rng(seed, Stream::Truth, index as u64, u64::from(t));
+            let mut rng = RolloutRng::from_chacha(&mut seeder);
             let p = game.win_chances(after, t, &mut rng);
             for seat in 0..2 {
                 truth.push(TruthRow {
@@ -697,7 +698,11 @@ pub(super) fn generate(
     // `check()` admits only "A" and "B".
     let variant = Variant::from_label(&opts.variant).unwrap_or(Variant::A);
     let skills = roster(opts.seed);
-    let (events, outcomes, truth) = run_sessions(
+    let Gathered {
+        events,
+        outcomes,
+        truth,
+    } = run_sessions(
         opts.sessions,
         opts.truth,
         "simulating vessmire sessions",
@@ -711,9 +716,9 @@ pub(super) fn generate(
         outcomes,
         truth,
         truth_method: format!(
-            "Monte Carlo: {ROLLOUTS} rollouts of the rest of the game per (session, turn) from the \
-             simulator's full state, hidden skills included, each seeded from (seed, session, turn); \
-             exact 1/0 once the game is over"
+            "Monte Carlo: {ROLLOUTS} rollouts of the rest of the game per (session, turn) from \
+             the simulator's full state, hidden skills included, each seeded from (seed, \
+             session, turn); exact 1/0 once the game is over"
         ),
         hidden_skills: PLAYERS
             .iter()

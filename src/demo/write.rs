@@ -19,8 +19,7 @@ pub const TRUTH_HEADER: [&str; 4] = ["session", "turn", "actor", "p_true"];
 /// A `truth.csv` left there by an earlier set is removed when `set` has no truth, so the folder
 /// never pairs new events with old truth.
 pub fn write_set(set: &DemoSet, dir: &Path) -> io::Result<()> {
-    fs::create_dir_all(dir)
-        .map_err(|e| with_context(e, "creating the demo set folder", dir))?;
+    fs::create_dir_all(dir).map_err(|e| with_context(e, "creating the demo set folder", dir))?;
 
     let events_path = dir.join("events.csv");
     write_atomic_with(&events_path, |w| {

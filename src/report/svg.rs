@@ -198,7 +198,7 @@ fn references(out: &mut String, s: &Scale) {
     }
 }
 
-fn legend(out: &mut String, s: &Scale, items: &[(&str, &str, bool)]) {
+fn legend(out: &mut String, _s: &Scale, items: &[(&str, &str, bool)]) {
     let mut x = LEFT + 8.0;
     for (name, color, dashed) in items {
         let dash = if *dashed {

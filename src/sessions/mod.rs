@@ -183,3 +183,21 @@ impl SessionSet {
         &self.labels[event.label as usize]
     }
 }
+
+impl SessionSet {
+    /// A copy holding only the sessions `keep` accepts (labels, columns and problems kept), named
+    /// `name` — used to give each variant of one set its own model.
+    pub fn subset(&self, name: &str, keep: impl Fn(&Session) -> bool) -> SessionSet {
+        SessionSet {
+            name: name.to_string(),
+            root: self.root.clone(),
+            labels: self.labels.clone(),
+            state_columns: self.state_columns.clone(),
+            sessions: self.sessions.iter().filter(|s| keep(s)).cloned().collect(),
+            set_aside: self.set_aside.clone(),
+            problems: self.problems.clone(),
+            event_rows: self.event_rows,
+            files: self.files.clone(),
+        }
+    }
+}

@@ -1,0 +1,55 @@
+//! `tellturn report`: train with cross-fitting, analyse, and write the report folder.
+
+use super::progress::{StderrProgress, ctrl_c_cancel};
+use super::{ReportArgs, load_sets};
+use std::time::Instant;
+use tellturn::report::write_report;
+use tellturn::study::{StudyOptions, run_study};
+
+/// Run `report`.
+pub fn run(args: &ReportArgs) -> anyhow::Result<i32> {
+    let started = Instant::now();
+    let progress = StderrProgress::new(args.quiet);
+    let cancel = ctrl_c_cancel();
+    if !(0.5..1.0).contains(&args.threshold) {
+        anyhow::bail!(
+            "--threshold must be at least 0.5 and below 1 (got {})",
+            args.threshold
+        );
+    }
+    let a = load_sets(&args.sets, &progress)?;
+    let b = load_sets(&args.vs, &progress)?;
+    let mut train = args.train.options();
+    train.cross_fit = true;
+    let options = StudyOptions {
+        train,
+        threshold: args.threshold,
+        bootstrap: args.bootstrap,
+        split_variants: !args.no_variant_split,
+        ..StudyOptions::default()
+    };
+    let study = run_study(a, b, &options, &progress, &cancel)?;
+    let written = write_report(&study, &args.out, &progress, &cancel)?;
+    progress.finish();
+    println!("Findings");
+    for f in study.findings.headlines.iter() {
+        println!("  • {}", f.text);
+    }
+    if let Some(c) = &study.comparison {
+        println!("Comparison ({} against {})", c.b.name, c.a.name);
+        for v in &c.verdicts {
+            println!("  • {v}");
+        }
+    }
+    for n in &study.notes {
+        println!("note: {n}");
+    }
+    println!("wrote {} files to {}:", written.len(), args.out.display());
+    for w in &written {
+        println!("  {}", w.display());
+    }
+    if args.train.timings {
+        println!("total {:.2} s", started.elapsed().as_secs_f64());
+    }
+    Ok(0)
+}

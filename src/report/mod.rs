@@ -1,0 +1,103 @@
+//! The report: `report.html` (self-contained), `summary.json` and the CSV tables, written
+//! atomically into a folder that is never one of the input folders. The engine does the work
+//! ([`crate::study`]); this module only lays it out.
+
+pub mod escape;
+pub mod html;
+pub mod svg;
+pub mod tables;
+
+use crate::atomic::write_atomic_with;
+use crate::progress::{Cancel, Cancelled, Progress};
+use crate::study::Study;
+use std::path::{Path, PathBuf};
+
+/// Why a report could not be written.
+#[derive(Debug, thiserror::Error)]
+pub enum ReportError {
+    /// The output folder is (inside) an input folder.
+    #[error(
+        "{out} is inside the input folder {input}; reports are never written into an input folder — choose another --out"
+    )]
+    IntoInput {
+        /// The output folder.
+        out: PathBuf,
+        /// The input folder.
+        input: PathBuf,
+    },
+    /// Writing failed.
+    #[error("{path}: {source}")]
+    Io {
+        /// The file.
+        path: PathBuf,
+        /// The error.
+        source: std::io::Error,
+    },
+    /// Cancelled.
+    #[error("cancelled")]
+    Cancelled(#[from] Cancelled),
+}
+
+/// The files a report consists of.
+pub const REPORT_FILES: [&str; 6] = [
+    "report.html",
+    "summary.json",
+    "turn_probabilities.csv",
+    "decisions.csv",
+    "turn_accuracy.csv",
+    "event_impact.csv",
+];
+
+fn canonical(p: &Path) -> PathBuf {
+    std::fs::canonicalize(p).unwrap_or_else(|_| p.to_path_buf())
+}
+
+/// Write every report file into `out` (created if needed).
+pub fn write_report(
+    study: &Study,
+    out: &Path,
+    progress: &dyn Progress,
+    cancel: &Cancel,
+) -> Result<Vec<PathBuf>, ReportError> {
+    std::fs::create_dir_all(out).map_err(|source| ReportError::Io {
+        path: out.to_path_buf(),
+        source,
+    })?;
+    let out_c = canonical(out);
+    for set in &study.sets {
+        if set.root.as_os_str().is_empty() {
+            continue;
+        }
+        let input = canonical(&set.root);
+        if out_c.starts_with(&input) {
+            return Err(ReportError::IntoInput {
+                out: out.to_path_buf(),
+                input: set.root.clone(),
+            });
+        }
+    }
+    type Writer = fn(&Study, &mut dyn std::io::Write) -> std::io::Result<()>;
+    let writers: [(&str, Writer); 6] = [
+        ("report.html", |s, w| {
+            w.write_all(html::render(s).as_bytes())
+        }),
+        ("summary.json", tables::summary_json),
+        ("turn_probabilities.csv", tables::turn_probabilities),
+        ("decisions.csv", tables::decisions),
+        ("turn_accuracy.csv", tables::turn_accuracy),
+        ("event_impact.csv", tables::event_impact),
+    ];
+    let mut written = Vec::new();
+    for (i, (name, write)) in writers.iter().enumerate() {
+        cancel.check()?;
+        progress.report("writing report", i as f64 / writers.len() as f64);
+        let path = out.join(name);
+        write_atomic_with(&path, |w| write(study, w)).map_err(|source| ReportError::Io {
+            path: path.clone(),
+            source,
+        })?;
+        written.push(path);
+    }
+    progress.report("writing report", 1.0);
+    Ok(written)
+}
