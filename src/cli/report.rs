@@ -49,6 +49,13 @@ pub fn run(args: &ReportArgs) -> anyhow::Result<i32> {
         println!("  {}", w.display());
     }
     if args.train.timings {
+        for side in &study.sides {
+            let t = &side.training.timings;
+            println!(
+                "timings {}: features {:.2} s, fit {:.2} s, scoring {:.2} s, training total {:.2} s",
+                side.name, t.features, t.fit, t.score, t.total
+            );
+        }
         println!("total {:.2} s", started.elapsed().as_secs_f64());
     }
     Ok(0)

@@ -4,7 +4,9 @@
 
 use super::folds::{Role, SessionKey, Split, split_sessions};
 use crate::analysis::traces::{Trace, TraceSource};
-use crate::features::{FeatureParams, FeatureSpec, TurnSample, TurnTable, build_table};
+use crate::features::{
+    FeatureParams, FeatureSpec, TurnSample, TurnTable, build_table, build_training_table,
+};
 use crate::models::win_model::{Fitted, ModelSummary, WinModel, normalise};
 use crate::models::{BoostedParams, FitError, LogisticParams, Matrix};
 use crate::progress::{Cancel, Cancelled, Progress};
@@ -223,9 +225,14 @@ impl Ctx<'_> {
         &mut self,
         sessions: &[(usize, usize)],
         sample: TurnSample,
+        fitting: bool,
     ) -> Result<(TurnTable, Matrix), TrainError> {
         let t0 = Instant::now();
-        let table = build_table(&self.spec, self.sets, sessions, sample, self.cancel)?;
+        let table = if fitting {
+            build_training_table(&self.spec, self.sets, sessions, sample, self.cancel)?
+        } else {
+            build_table(&self.spec, self.sets, sessions, sample, self.cancel)?
+        };
         let x = Matrix::new(table.rows.len(), table.width(), table.values.clone())?;
         self.timings.features += t0.elapsed().as_secs_f64();
         Ok((table, x))
@@ -240,11 +247,11 @@ impl Ctx<'_> {
         stage: &str,
         with_draw: bool,
     ) -> Result<(Fitted, Option<Fitted>, usize, Option<usize>), TrainError> {
-        let (table, x) = self.table(sessions, self.sample)?;
+        let (table, x) = self.table(sessions, self.sample, true)?;
         let (won, draw) = labels(self.sets, &table);
         let valid_data = match valid {
             Some(v) => {
-                let (vt, vx) = self.table(v, TurnSample::All)?;
+                let (vt, vx) = self.table(v, TurnSample::All, false)?;
                 let (vwon, _) = labels(self.sets, &vt);
                 Some((vx, vwon))
             }
@@ -267,18 +274,17 @@ impl Ctx<'_> {
                 Fitted::Boosted(m)
             }
         };
+        // The draw model is of the same kind as the win model: draws can depend on the
+        // position as non-linearly as wins do.
         let draw_model = if with_draw && draw.iter().any(|&d| d > 0.5) {
-            let p = LogisticParams {
-                l2: 1e-2,
-                ..LogisticParams::default()
-            };
-            Some(Fitted::Logistic(p.fit(
-                &x,
-                &draw,
-                None,
-                &progress,
-                self.cancel,
-            )?))
+            Some(match chosen {
+                Chosen::Logistic(p) => {
+                    Fitted::Logistic(p.fit(&x, &draw, None, &progress, self.cancel)?)
+                }
+                Chosen::Boosted(p) => {
+                    Fitted::Boosted(p.fit(&x, &draw, None, None, &progress, self.cancel)?)
+                }
+            })
         } else {
             None
         };
@@ -288,7 +294,7 @@ impl Ctx<'_> {
 
     /// Validation log loss of a fitted win model on sessions.
     fn valid_loss(&mut self, win: &Fitted, sessions: &[(usize, usize)]) -> Result<f64, TrainError> {
-        let (table, x) = self.table(sessions, TurnSample::All)?;
+        let (table, x) = self.table(sessions, TurnSample::All, false)?;
         let (won, _) = labels(self.sets, &table);
         let raw = win.predict_proba(&x);
         let c = normalise(&table.rows, &raw, None);

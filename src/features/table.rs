@@ -83,6 +83,7 @@ fn session_rows(
     set_index: u16,
     session_index: u32,
     keep_turn: &dyn Fn(u32) -> bool,
+    with_start: bool,
 ) -> (Vec<RowKey>, Vec<f32>) {
     let n = session.actors.len();
     let labels = spec.labels.len();
@@ -99,6 +100,16 @@ fn session_rows(
     let mut history: VecDeque<(u32, Vec<usize>)> = VecDeque::new();
     let mut keys = Vec::new();
     let mut values = Vec::new();
+    if with_start {
+        // "Before the first turn": what the seat alone says; it teaches the model the start.
+        let start = start_table(spec, n);
+        keys.extend(start.rows.iter().map(|k| RowKey {
+            set: set_index,
+            session: session_index,
+            ..*k
+        }));
+        values.extend(start.values);
+    }
     let events = &session.events;
     let mut i = 0;
     while i < events.len() {
@@ -252,6 +263,29 @@ pub fn build_table(
     sample: TurnSample,
     cancel: &Cancel,
 ) -> Result<TurnTable, Cancelled> {
+    build_rows(spec, sets, sessions, sample, false, cancel)
+}
+
+/// Like [`build_table`], plus one "before the first turn" row per session and actor (turn 0,
+/// nothing done yet), so the model learns what the seat alone says. For fitting only.
+pub fn build_training_table(
+    spec: &FeatureSpec,
+    sets: &[&SessionSet],
+    sessions: &[(usize, usize)],
+    sample: TurnSample,
+    cancel: &Cancel,
+) -> Result<TurnTable, Cancelled> {
+    build_rows(spec, sets, sessions, sample, true, cancel)
+}
+
+fn build_rows(
+    spec: &FeatureSpec,
+    sets: &[&SessionSet],
+    sessions: &[(usize, usize)],
+    sample: TurnSample,
+    with_start: bool,
+    cancel: &Cancel,
+) -> Result<TurnTable, Cancelled> {
     let maps: Vec<SetMapping> = sets.iter().map(|s| SetMapping::new(spec, s)).collect();
     let parts: Vec<Option<(Vec<RowKey>, Vec<f32>)>> = sessions
         .par_iter()
@@ -270,7 +304,7 @@ pub fn build_table(
                 }
             };
             Some(session_rows(
-                spec, &maps[si], session, si as u16, k as u32, &*keep,
+                spec, &maps[si], session, si as u16, k as u32, &*keep, with_start,
             ))
         })
         .collect();
@@ -298,6 +332,7 @@ pub fn session_table(spec: &FeatureSpec, set: &SessionSet, session_index: usize)
         0,
         session_index as u32,
         &|_| true,
+        false,
     );
     TurnTable {
         columns: spec.column_names(),

@@ -182,7 +182,7 @@ fn check_fitted(what: &str, fitted: &Fitted, width: usize) -> Result<(), String>
             finite(&m.means, "means")?;
             finite(&m.scales, "scales")?;
             finite(&m.impute, "impute")?;
-            if m.scales.iter().any(|s| *s == 0.0) {
+            if m.scales.contains(&0.0) {
                 return Err(format!("{what}: a column scale is zero"));
             }
             if !m.intercept.is_finite() {

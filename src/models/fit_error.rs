@@ -82,6 +82,22 @@ pub enum FitError {
         /// The value found.
         value: f32,
     },
+    /// A feature value is ±∞ (the logistic regression needs finite values; NaN means missing).
+    #[error("feature value at row {row}, column {col} is infinite")]
+    InfiniteFeature {
+        /// Row index.
+        row: usize,
+        /// Column index.
+        col: usize,
+    },
+    /// More rows than the row indices (32-bit) can address.
+    #[error("{rows} rows is more than the {max} this learner supports")]
+    TooManyRows {
+        /// Rows given.
+        rows: usize,
+        /// The limit.
+        max: usize,
+    },
     /// The observed information is singular, so standard errors do not exist.
     #[error("observed information matrix is singular (perfect separation or collinear columns)")]
     SingularInformation,

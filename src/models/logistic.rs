@@ -78,6 +78,7 @@ impl LogisticParams {
     ) -> Result<Logistic, FitError> {
         self.check()?;
         check_labels_and_weights(x.n_rows(), y, weights)?;
+        check_finite_features(x)?;
         let scaling = column_scaling(x, self.standardize);
         let imputed = scaling.impute_copy(x);
         let x_used = imputed.as_ref().unwrap_or(x);
@@ -215,6 +216,7 @@ impl Logistic {
         weights: Option<&[f32]>,
     ) -> Result<Vec<f64>, FitError> {
         self.check_data(x, y, weights)?;
+        check_finite_features(x)?;
         let p = self.coefficients.len();
         let free: Vec<usize> = (0..p).filter(|&j| self.estimated[j]).collect();
         let imputed = scaling::impute_with(x, &self.impute);
@@ -250,6 +252,17 @@ impl Logistic {
     }
 }
 
+/// Fails on the first ±∞ feature value (NaN is allowed: it means missing).
+fn check_finite_features(x: &Matrix) -> Result<(), FitError> {
+    match x.values().iter().position(|v| v.is_infinite()) {
+        Some(k) => Err(FitError::InfiniteFeature {
+            row: k / x.n_cols(),
+            col: k % x.n_cols(),
+        }),
+        None => Ok(()),
+    }
+}
+
 /// The logistic function, computed without overflow.
 pub fn sigmoid(z: f64) -> f64 {
     if z >= 0.0 {
@@ -274,7 +287,7 @@ fn inverse_diagonal(a: &mut [f64], k: usize) -> Option<Vec<f64>> {
         for m in 0..j {
             d -= a[j * k + m] * a[j * k + m];
         }
-        if !(d > 1e-300) || !d.is_finite() {
+        if d.is_nan() || d <= 1e-300 || d.is_infinite() {
             return None;
         }
         let d = d.sqrt();

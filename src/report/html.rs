@@ -7,7 +7,7 @@ use super::svg::{
     Band, Bar, Frame, PALETTE, Series, Span, bar_chart, decided_chart, histogram, line_chart,
 };
 use super::tables::gallery;
-use crate::analysis::decision::{DecisionReport, DecisionSummary};
+use crate::analysis::decision::DecisionSummary;
 use crate::analysis::findings::CAUTION;
 use crate::analysis::swings::top_swings;
 use crate::analysis::traces::Trace;
@@ -773,7 +773,7 @@ fn trace_chart(study: &Study, t: &Trace, threshold: f64, decided: Option<u32>) -
         (0.0, 1.0),
     );
     frame.size = (640.0, 220.0);
-    frame.h_lines = vec![(threshold, format!("{}", pct(threshold)))];
+    frame.h_lines = vec![(threshold, pct(threshold))];
     if let Some(d) = decided {
         frame.v_lines = vec![(d as f64, "decided".into())];
     }
@@ -1073,7 +1073,6 @@ pub fn render(study: &Study) -> String {
         <li>Intervals are 95 %: Wilson for single rates, Newcombe's hybrid score for differences of rates, Hodges-Lehmann for shifts, bootstrap over whole sessions for event impact.</li>\
         <li>Turn-by-turn figures use the sessions still running at that turn, so late turns describe long games only.</li></ul>"
     );
-    let _ = write!(out, "</body></html>\n");
-    let _ = DecisionReport::clone;
+    let _ = writeln!(out, "</body></html>");
     out
 }

@@ -268,11 +268,7 @@ pub fn summary_json(study: &Study, w: &mut dyn Write) -> io::Result<()> {
 }
 
 /// Traces of a side, most decisive first (highest settled share), for the gallery.
-pub fn gallery<'a>(
-    study: &'a Study,
-    side: usize,
-    count: usize,
-) -> (Vec<&'a Trace>, Vec<&'a Trace>) {
+pub fn gallery(study: &Study, side: usize, count: usize) -> (Vec<&Trace>, Vec<&Trace>) {
     let s = &study.sides[side];
     let mut scored: Vec<(f64, &Trace)> = s
         .decisions

@@ -56,9 +56,11 @@ pub fn edges_from_sample(mut values: Vec<f32>, max_bins: usize) -> BinEdges {
     if distinct.len() <= 1 {
         return BinEdges { upper: Vec::new() };
     }
+    // The bound between neighbouring values a < b; `a` itself when the midpoint rounds to b
+    // or is undefined (a = −∞).
     let midpoint = |a: f32, b: f32| {
         let m = (f64::from(a) + (f64::from(b) - f64::from(a)) / 2.0) as f32;
-        if m >= b { a } else { m }
+        if m.is_nan() || m >= b { a } else { m }
     };
     let mut upper = Vec::new();
     if distinct.len() <= max_bins {
@@ -142,9 +144,15 @@ pub struct BinnedData {
     pub offsets: Vec<usize>,
 }
 
-/// Features per group: enough groups to share among threads, few enough that each row is
-/// visited a handful of times, and small enough that a group's histogram stays in cache.
-pub const FEATURES_PER_GROUP: usize = 25;
+/// Most features in one group (so a group's slots fit in u16 and its histogram in cache).
+pub const MAX_FEATURES_PER_GROUP: usize = 64;
+
+/// Features per group for `n_features` columns: about four groups, so two threads share the
+/// work while each row is visited only a few times (every visit of a scattered row is a cache
+/// miss). Depends only on the column count, never on the thread count.
+pub fn features_per_group(n_features: usize) -> usize {
+    n_features.div_ceil(4).clamp(4, MAX_FEATURES_PER_GROUP)
+}
 
 /// Rows binned per parallel work item.
 const BIN_CHUNK_ROWS: usize = 8192;
@@ -189,10 +197,11 @@ impl BinnedData {
             total += e.n_bins();
         }
         offsets.push(total);
-        let groups = (0..p.div_ceil(FEATURES_PER_GROUP))
+        let per_group = features_per_group(p);
+        let groups = (0..p.div_ceil(per_group))
             .into_par_iter()
             .map(|g| {
-                let features = g * FEATURES_PER_GROUP..((g + 1) * FEATURES_PER_GROUP).min(p);
+                let features = g * per_group..((g + 1) * per_group).min(p);
                 let first_slot = offsets[features.start];
                 let n_slots = offsets[features.end] - first_slot;
                 let cols: Vec<(&[u8], u16)> = features
@@ -277,6 +286,14 @@ mod tests {
         // Equal-count bins over the non-zero values: about 5000/15 values each (common practice).
         let first = (1..=5000).filter(|&i| e.bin_of(i as f32) == 1).count();
         assert!((250..=450).contains(&first), "{first}");
+    }
+
+    #[test]
+    fn infinite_values_give_ordered_bounds() {
+        let e = edges_from_sample(vec![f32::NEG_INFINITY, 0.0, 1.0, f32::INFINITY], 255);
+        assert!(e.upper.windows(2).all(|w| w[0] < w[1]), "{:?}", e.upper);
+        assert_eq!(e.bin_of(f32::NEG_INFINITY), 0);
+        assert_eq!(e.bin_of(f32::INFINITY), 3);
     }
 
     #[test]

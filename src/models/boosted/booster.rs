@@ -11,8 +11,9 @@ use super::super::fit_error::FitError;
 use super::super::logistic::{sigmoid, softplus};
 use super::super::matrix::Matrix;
 use super::super::weighted_rows::check_labels_and_weights;
-use super::bins::{BinnedData, find_edges};
+use super::bins::{BinnedData, MAX_FEATURES_PER_GROUP, find_edges};
 use super::params::BoostedParams;
+use super::partition::OUT_OF_BAG;
 use super::tree::{GrowInput, Tree, TreeLearner};
 use crate::progress::{Cancel, Progress};
 
@@ -100,6 +101,14 @@ impl BoostedParams {
         if x.n_cols() == 0 {
             return Err(FitError::Empty("the matrix has no columns"));
         }
+        // Rows are indexed by u32, and each feature group's entry offsets are u32 too.
+        let max_rows = u32::MAX as usize / MAX_FEATURES_PER_GROUP;
+        if x.n_rows() > max_rows {
+            return Err(FitError::TooManyRows {
+                rows: x.n_rows(),
+                max: max_rows,
+            });
+        }
         if let Some((vx, vy)) = valid {
             if vx.n_cols() != x.n_cols() {
                 return Err(FitError::ColumnMismatch {
@@ -185,7 +194,7 @@ impl BoostedParams {
                 active_list: &active_list,
                 params: self,
             });
-            self.update_scores(&mut scores, &tree, &learner, &data, in_bag.is_some());
+            Self::update_scores(&mut scores, &tree, &learner, &data);
             if let (Some(vs), Some((vx, _))) = (valid_scores.as_mut(), valid) {
                 vs.par_chunks_mut(CHUNK_ROWS)
                     .enumerate()
@@ -249,43 +258,21 @@ impl BoostedParams {
     }
 
     /// Adds the new tree's output to every training score: rows of the tree's sample through
-    /// the partition, the others by walking the tree on their bins.
-    fn update_scores(
-        &self,
-        scores: &mut [f64],
-        tree: &Tree,
-        learner: &TreeLearner,
-        data: &BinnedData,
-        subsampled: bool,
-    ) {
-        let partition = learner.partition();
-        if subsampled {
-            let leaf_of = partition.leaf_of();
-            scores
-                .par_chunks_mut(CHUNK_ROWS)
-                .enumerate()
-                .for_each(|(c, s)| {
-                    for (k, v) in s.iter_mut().enumerate() {
-                        let i = c * CHUNK_ROWS + k;
-                        let leaf = leaf_of[i];
-                        *v += if leaf == super::partition::OUT_OF_BAG {
-                            tree.predict_binned(data, i)
-                        } else {
-                            tree.leaf_values[leaf as usize]
-                        };
-                    }
-                });
-        } else {
-            let leaf_of = partition.leaf_of();
-            scores
-                .par_chunks_mut(CHUNK_ROWS)
-                .enumerate()
-                .for_each(|(c, s)| {
-                    for (k, v) in s.iter_mut().enumerate() {
-                        *v += tree.leaf_values[leaf_of[c * CHUNK_ROWS + k] as usize];
-                    }
-                });
-        }
+    /// the leaf they landed in, the others (out of bag) by walking the tree on their bins.
+    fn update_scores(scores: &mut [f64], tree: &Tree, learner: &TreeLearner, data: &BinnedData) {
+        let leaf_of = learner.partition().leaf_of();
+        scores
+            .par_chunks_mut(CHUNK_ROWS)
+            .enumerate()
+            .for_each(|(c, s)| {
+                for (k, v) in s.iter_mut().enumerate() {
+                    let i = c * CHUNK_ROWS + k;
+                    *v += match leaf_of[i] {
+                        OUT_OF_BAG => tree.predict_binned(data, i),
+                        leaf => tree.leaf_values[leaf as usize],
+                    };
+                }
+            });
     }
 }
 

@@ -49,6 +49,9 @@ pub struct LeafRows<'a> {
     pub all_rows: bool,
     /// Totals over the leaf's rows.
     pub totals: BinSums,
+    /// Row counts per slot when they are already known (the root of a tree grown on all
+    /// rows has the same counts in every round), so only gradients need summing.
+    pub known_counts: Option<&'a [u64]>,
 }
 
 /// Fills `hist` (all features, laid out by `data.offsets`) for the leaf.
@@ -60,30 +63,86 @@ pub fn build(hist: &mut [BinSums], data: &BinnedData, leaf: &LeafRows) {
         parts.push((group, head));
         rest = tail;
     }
-    parts.par_iter_mut().for_each(|(group, h)| {
-        h.iter_mut().for_each(|b| *b = BinSums::default());
-        if leaf.all_rows {
-            for (r, &gh) in leaf.ordered.iter().enumerate() {
-                add_row(h, group, r, gh);
-            }
-        } else {
-            for (&r, &gh) in leaf.rows.iter().zip(leaf.ordered) {
-                add_row(h, group, r as usize, gh);
-            }
+    parts
+        .par_iter_mut()
+        .for_each(|(group, h)| build_group(h, group, data, leaf));
+}
+
+/// Sums one feature group's entries for the leaf, then fills each feature's bin 0.
+fn build_group(h: &mut [BinSums], group: &FeatureGroup, data: &BinnedData, leaf: &LeafRows) {
+    h.iter_mut().for_each(|b| *b = BinSums::default());
+    if let Some(counts) = leaf.known_counts {
+        sum_all_rows_gradients(h, group, leaf.ordered);
+        let counts = &counts[group.first_slot..group.first_slot + group.n_slots];
+        for (b, &n) in h.iter_mut().zip(counts) {
+            b.n = n;
         }
-        // Bin 0 of each feature is what its other bins leave of the leaf total.
-        for j in group.features.clone() {
-            let lo = data.offsets[j] - group.first_slot;
-            let hi = data.offsets[j + 1] - group.first_slot;
-            let mut others = BinSums::default();
-            for b in &h[lo + 1..hi] {
-                others.g += b.g;
-                others.h += b.h;
-                others.n += b.n;
-            }
-            h[lo] = leaf.totals.minus(others);
+    } else if leaf.all_rows {
+        sum_all_rows(h, group, leaf.ordered);
+    } else {
+        sum_leaf_rows(h, group, leaf.rows, leaf.ordered);
+    }
+    // Bin 0 of each feature is what its other bins leave of the leaf total.
+    for j in group.features.clone() {
+        let lo = data.offsets[j] - group.first_slot;
+        let hi = data.offsets[j + 1] - group.first_slot;
+        let mut others = BinSums::default();
+        for b in &h[lo + 1..hi] {
+            others.g += b.g;
+            others.h += b.h;
+            others.n += b.n;
         }
-    });
+        h[lo] = leaf.totals.minus(others);
+    }
+}
+
+/// Every row, counts known: only gradients and hessians are summed.
+#[inline(never)]
+fn sum_all_rows_gradients(h: &mut [BinSums], group: &FeatureGroup, gradients: &[[f32; 2]]) {
+    for (r, &gh) in gradients.iter().enumerate() {
+        add_row_gradients(h, group, r, gh);
+    }
+}
+
+/// Every row, in order.
+#[inline(never)]
+fn sum_all_rows(h: &mut [BinSums], group: &FeatureGroup, gradients: &[[f32; 2]]) {
+    for (r, &gh) in gradients.iter().enumerate() {
+        add_row(h, group, r, gh);
+    }
+}
+
+/// The rows of one leaf (scattered), with their gradients in the same order.
+#[inline(never)]
+fn sum_leaf_rows(h: &mut [BinSums], group: &FeatureGroup, rows: &[u32], ordered: &[[f32; 2]]) {
+    // Each row's entries are a cache miss; fetch them a few rows ahead (and their start
+    // offsets further ahead).
+    let m = rows.len();
+    for (k, (&r, &gh)) in rows.iter().zip(ordered).enumerate() {
+        if k + 2 * PREFETCH_ROWS < m {
+            prefetch(&group.row_start[rows[k + 2 * PREFETCH_ROWS] as usize]);
+        }
+        if k + PREFETCH_ROWS < m {
+            let start = group.row_start[rows[k + PREFETCH_ROWS] as usize] as usize;
+            prefetch(group.slots.as_ptr().wrapping_add(start));
+        }
+        add_row(h, group, r as usize, gh);
+    }
+}
+
+/// How many rows ahead the entries are fetched.
+const PREFETCH_ROWS: usize = 16;
+
+/// A hint to load the cache line holding `p`; it never faults and changes no result.
+#[inline(always)]
+fn prefetch<T>(p: *const T) {
+    #[cfg(target_arch = "x86_64")]
+    // SAFETY: a prefetch is only a hint; it does not dereference the pointer.
+    unsafe {
+        std::arch::x86_64::_mm_prefetch::<{ std::arch::x86_64::_MM_HINT_T0 }>(p.cast::<i8>());
+    }
+    #[cfg(not(target_arch = "x86_64"))]
+    let _ = p;
 }
 
 #[inline]
@@ -92,6 +151,17 @@ fn add_row(h: &mut [BinSums], group: &FeatureGroup, r: usize, gh: [f32; 2]) {
     let hi = group.row_start[r + 1] as usize;
     for &slot in &group.slots[lo..hi] {
         h[slot as usize].add(gh);
+    }
+}
+
+#[inline]
+fn add_row_gradients(h: &mut [BinSums], group: &FeatureGroup, r: usize, gh: [f32; 2]) {
+    let lo = group.row_start[r] as usize;
+    let hi = group.row_start[r + 1] as usize;
+    for &slot in &group.slots[lo..hi] {
+        let b = &mut h[slot as usize];
+        b.g += f64::from(gh[0]);
+        b.h += f64::from(gh[1]);
     }
 }
 

@@ -46,8 +46,8 @@ impl Tree {
         loop {
             let node = &self.nodes[at];
             let v = row[node.feature as usize];
-            // `!(v > t)` sends NaN left, matching bin 0 for NaN.
-            let child = if !(v > node.threshold) {
+            // NaN goes left, matching bin 0 for NaN.
+            let child = if v.is_nan() || v <= node.threshold {
                 node.left
             } else {
                 node.right
@@ -111,12 +111,15 @@ struct LeafState {
     parent: Option<(usize, bool)>,
 }
 
-/// Grows trees, reusing its buffers from one tree to the next.
+/// Grows trees, reusing its buffers from one tree to the next; one learner serves one fit
+/// (one `BinnedData`), since it caches the root's row counts.
 #[derive(Default)]
 pub struct TreeLearner {
     partition: DataPartition,
     ordered: Vec<[f32; 2]>,
     pool: Vec<Vec<BinSums>>,
+    /// Row counts per histogram slot of the all-rows root, filled by the first such tree.
+    root_counts: Option<Vec<u64>>,
 }
 
 impl TreeLearner {
@@ -156,8 +159,16 @@ impl TreeLearner {
             ordered,
             all_rows,
             totals,
+            known_counts: if all_rows {
+                self.root_counts.as_deref()
+            } else {
+                None
+            },
         };
         histogram::build(&mut hist, input.data, &leaf_rows);
+        if all_rows && self.root_counts.is_none() {
+            self.root_counts = Some(hist.iter().map(|b| b.n).collect());
+        }
         hist
     }
 

@@ -116,7 +116,7 @@ impl<'a> Design<'a> {
     }
 
     /// Maps raw sums (Σ aᵢxᵢ, Σ aᵢ) back to the standardised coordinates.
-    fn from_raw(&self, raw: &[f64], total: f64) -> Vec<f64> {
+    fn raw_sums_to_standardised(&self, raw: &[f64], total: f64) -> Vec<f64> {
         let p = self.n_cols();
         let mut g: Vec<f64> = (0..p)
             .map(|j| {
@@ -163,7 +163,10 @@ impl<'a> Design<'a> {
             })
             .collect();
         let total = sum_in_order(&partials, p + 2);
-        (total[p + 1], self.from_raw(&total[..p], total[p]))
+        (
+            total[p + 1],
+            self.raw_sums_to_standardised(&total[..p], total[p]),
+        )
     }
 
     /// Hessian of the mean loss (no penalty) times `v`, using the curvature of the last
@@ -191,7 +194,7 @@ impl<'a> Design<'a> {
             .collect();
         debug_assert_eq!(partials.len(), self.chunks());
         let total = sum_in_order(&partials, p + 1);
-        self.from_raw(&total[..p], total[p])
+        self.raw_sums_to_standardised(&total[..p], total[p])
     }
 }
 

@@ -1,0 +1,117 @@
+//! The engine against ground truth: the demo simulator knows every actor's true win chance
+//! (Monte Carlo rollouts from its full state), so out-of-fold chances can be checked against it.
+
+use std::collections::HashMap;
+use tellturn::analysis::traces::TraceSource;
+use tellturn::demo::{DemoOptions, Scenario, generate, write_set};
+use tellturn::evaluate::metrics::{log_loss, reliability_table};
+use tellturn::evaluate::train::{TrainOptions, train};
+use tellturn::progress::{Cancel, NoProgress};
+use tellturn::sessions::load_set;
+
+fn demo_set(
+    variant: &str,
+    sessions: usize,
+    seed: u64,
+) -> (tempdir::Dir, tellturn::sessions::SessionSet) {
+    let dir = tempdir::Dir::new(&format!("truth-{variant}-{sessions}-{seed}"));
+    let opts = DemoOptions {
+        variant: variant.into(),
+        sessions,
+        seed,
+        truth: true,
+        ..DemoOptions::for_scenario(Scenario::BoardGame)
+    };
+    let set = generate(&opts, &NoProgress, &Cancel::new()).expect("demo");
+    write_set(&set, dir.path()).expect("write");
+    let loaded = load_set(dir.path());
+    assert!(loaded.is_usable(), "{:?}", loaded.problems);
+    (dir, loaded)
+}
+
+mod tempdir {
+    use std::path::{Path, PathBuf};
+    /// A scratch folder under the target dir, removed on drop.
+    pub struct Dir(PathBuf);
+    impl Dir {
+        pub fn new(name: &str) -> Self {
+            let p =
+                std::env::temp_dir().join(format!("tellturn-test-{}-{name}", std::process::id()));
+            let _ = std::fs::remove_dir_all(&p);
+            std::fs::create_dir_all(&p).unwrap();
+            Dir(p)
+        }
+        pub fn path(&self) -> &Path {
+            &self.0
+        }
+    }
+    impl Drop for Dir {
+        fn drop(&mut self) {
+            let _ = std::fs::remove_dir_all(&self.0);
+        }
+    }
+}
+
+fn read_truth(dir: &std::path::Path) -> HashMap<(String, u32, String), f64> {
+    let mut rdr = csv::Reader::from_path(dir.join("truth.csv")).unwrap();
+    let mut out = HashMap::new();
+    for r in rdr.records() {
+        let r = r.unwrap();
+        out.insert(
+            (r[0].to_string(), r[1].parse().unwrap(), r[2].to_string()),
+            r[3].parse().unwrap(),
+        );
+    }
+    out
+}
+
+#[test]
+fn out_of_fold_chances_are_close_to_the_simulators_truth_and_calibrated() {
+    let (dir, set) = demo_set("A", 600, 21);
+    let truth = read_truth(dir.path());
+    let options = TrainOptions {
+        cross_fit: true,
+        learning_curve: false,
+        ..TrainOptions::default()
+    };
+    let training = train(&[&set], &options, &NoProgress, &Cancel::new()).unwrap();
+    let mut outcomes = Vec::new();
+    let mut model = Vec::new();
+    let mut exact = Vec::new();
+    for t in training
+        .traces
+        .iter()
+        .filter(|t| t.source != TraceSource::Scored)
+    {
+        let s = &set.sessions[t.session];
+        for (i, turn) in t.turns.iter().enumerate() {
+            for a in 0..t.actors {
+                outcomes.push(s.winner_seat() == Some(a));
+                model.push(t.chance(i, a));
+                exact.push(truth[&(s.id.clone(), *turn, s.actors[a].clone())]);
+            }
+        }
+    }
+    let model_loss = log_loss(&outcomes, &model, None).unwrap();
+    let truth_loss = log_loss(&outcomes, &exact, None).unwrap();
+    let ece = reliability_table(&outcomes, &model, 10, 0.95).unwrap().ece;
+    let truth_ece = reliability_table(&outcomes, &exact, 10, 0.95).unwrap().ece;
+    let mae: f64 = model
+        .iter()
+        .zip(&exact)
+        .map(|(m, e)| (m - e).abs())
+        .sum::<f64>()
+        / model.len() as f64;
+    eprintln!(
+        "rows {} model log loss {model_loss:.4} truth floor {truth_loss:.4} ECE {ece:.4} (truth's own {truth_ece:.4}) mean |model - truth| {mae:.4} model {}",
+        model.len(),
+        training.model.summary.choice
+    );
+    // The truth is the floor no model can beat on average (up to rollout noise).
+    assert!(model_loss > truth_loss - 0.01);
+    assert!(
+        model_loss - truth_loss < 0.06,
+        "{model_loss} vs floor {truth_loss}"
+    );
+    assert!(ece <= 0.02, "ECE {ece}");
+}
