@@ -455,10 +455,11 @@ pub fn train(
         }
     }
     if wants_boosted {
-        let leaves: &[usize] = if train_sessions.len() < 300 {
-            &[7, 15]
-        } else {
-            &[15, 31]
+        // Bigger sets can carry bigger trees; early stopping picks the rounds.
+        let leaves: &[usize] = match train_sessions.len() {
+            0..300 => &[7, 15],
+            300..3000 => &[15, 31],
+            _ => &[31, 63],
         };
         for &max_leaves in leaves {
             candidates.push(Chosen::Boosted(BoostedParams {
