@@ -11,7 +11,10 @@ use tellturn::sessions::{SessionSet, load_set};
 use tellturn::study::{StudyOptions, run_study};
 
 fn demo(variant: &str, sessions: usize, seed: u64) -> (std::path::PathBuf, SessionSet) {
-    let dir = std::env::temp_dir().join(format!("tellturn-analysis-truth-{}-{variant}-{seed}", std::process::id()));
+    let dir = std::env::temp_dir().join(format!(
+        "tellturn-analysis-truth-{}-{variant}-{seed}",
+        std::process::id()
+    ));
     let _ = std::fs::remove_dir_all(&dir);
     let opts = DemoOptions {
         variant: variant.into(),
@@ -32,7 +35,10 @@ fn truth_traces(dir: &std::path::Path, set: &SessionSet, set_index: usize) -> Ve
     let mut by: HashMap<(String, u32, String), f64> = HashMap::new();
     for r in rdr.records() {
         let r = r.unwrap();
-        by.insert((r[0].to_string(), r[1].parse().unwrap(), r[2].to_string()), r[3].parse().unwrap());
+        by.insert(
+            (r[0].to_string(), r[1].parse().unwrap(), r[2].to_string()),
+            r[3].parse().unwrap(),
+        );
     }
     set.sessions
         .iter()
@@ -82,14 +88,20 @@ fn decided_turns_match_the_truth_and_variant_b_is_decided_later() {
     diffs.sort_by(f64::total_cmp);
     let median = diffs[diffs.len() / 2];
     let within: f64 = diffs.iter().filter(|d| d.abs() <= 10.0).count() as f64 / diffs.len() as f64;
-    eprintln!("sessions decided by both {}; median model − truth {median}; within 10 turns {within:.2}", diffs.len());
+    eprintln!(
+        "sessions decided by both {}; median model − truth {median}; within 10 turns {within:.2}",
+        diffs.len()
+    );
     // The model cannot see hidden skill, so it is sure later than the truth, but not by much.
     assert!(median.abs() <= 8.0, "median difference {median}");
     assert!(within >= 0.5, "share within 10 turns {within}");
     // Variant B is decided later, with a Hodges-Lehmann interval that excludes zero.
     let c = study.comparison.as_ref().unwrap();
     let hl = c.decided_turn.hodges_lehmann.as_ref().unwrap();
-    eprintln!("B − A decided turn shift {} ({}..{}); {}", hl.shift, hl.interval.lo, hl.interval.hi, c.decided_turn.verdict);
+    eprintln!(
+        "B − A decided turn shift {} ({}..{}); {}",
+        hl.shift, hl.interval.lo, hl.interval.hi, c.decided_turn.verdict
+    );
     assert!(hl.interval.lo > 0.0, "{:?}", hl);
     let _ = std::fs::remove_dir_all(&dir_a);
     let _ = std::fs::remove_dir_all(&dir_b);

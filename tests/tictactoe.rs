@@ -33,5 +33,9 @@ fn held_out_win_chances_track_exact_random_play_values() {
     );
     assert!(c.mae <= 0.05, "mean absolute error {}", c.mae);
     // rec.puzzles FAQ: 737/1260 for X from the empty board.
-    assert!((c.empty_board - 737.0 / 1260.0).abs() < 0.01, "empty board {}", c.empty_board);
+    assert!(
+        (c.empty_board - 737.0 / 1260.0).abs() < 0.01,
+        "empty board {}",
+        c.empty_board
+    );
 }

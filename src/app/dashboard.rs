@@ -564,7 +564,7 @@ impl Dashboard {
         let ctx = ui.ctx().clone();
         let threshold = self.prefs.threshold;
         for b in &mut self.shelf.bundles {
-            b.poll_facts(threshold);
+            b.poll_facts(&ctx, threshold);
         }
         if self.theme_applied != Some(self.prefs.dark) {
             ctx.set_theme(if self.prefs.dark {
@@ -1449,11 +1449,13 @@ impl Dashboard {
     }
 
     /// Whether background work is running (for tests and benchmarks).
+    #[cfg_attr(not(test), allow(dead_code))]
     pub fn busy(&self) -> bool {
         self.shelf.any_busy() || !self.scoring.is_empty()
     }
 
     /// Select a session and bring the Replay to the front (for tests).
+    #[cfg_attr(not(test), allow(dead_code))]
     pub fn open_session(&mut self, k: usize) {
         if let Some(id) = self.active {
             self.selected.insert(id, k);

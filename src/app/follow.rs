@@ -22,8 +22,6 @@ pub struct Reread {
     /// Traces for every session: unchanged finished sessions keep their training trace,
     /// the rest are scored by the trained model.
     pub traces: Vec<Trace>,
-    /// Sessions re-scored.
-    pub rescored: usize,
 }
 
 type Stamp = Vec<(PathBuf, Option<(SystemTime, u64)>)>;
@@ -132,7 +130,6 @@ impl Follow {
                         None => to_score.push((0, k)),
                     }
                 }
-                let rescored = to_score.len();
                 if let Some(model) = model {
                     let fresh = score_sessions(
                         &model,
@@ -145,11 +142,7 @@ impl Follow {
                     keep.extend(fresh);
                 }
                 keep.sort_by_key(|t| t.session);
-                Ok(Reread {
-                    set,
-                    traces: keep,
-                    rescored,
-                })
+                Ok(Reread { set, traces: keep })
             },
         ));
         None

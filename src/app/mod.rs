@@ -16,10 +16,12 @@ mod tests;
 mod views;
 mod workspace;
 
+#[allow(unused_imports)] // `Tab` is used by the frame benchmark, which includes this module.
 pub use dashboard::{Dashboard, Setup, Tab};
 pub use prefs::Prefs;
 
 /// The logistic model kind (for benchmarks, which cannot name private modules).
+#[allow(dead_code)]
 pub fn prefs_logistic() -> prefs::ModelPick {
     prefs::ModelPick::Logistic
 }

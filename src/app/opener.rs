@@ -56,11 +56,6 @@ impl Opener {
         out
     }
 
-    /// Whether a dialog is open.
-    pub fn waiting(&self) -> bool {
-        self.pending.is_some()
-    }
-
     /// Draw the window; returns paths to open.
     pub fn window(&mut self, ctx: &egui::Context, recent: &[PathBuf]) -> Vec<PathBuf> {
         let mut out = Vec::new();

@@ -13,7 +13,7 @@ use tellturn::analysis::swings::{
 };
 use tellturn::analysis::traces::{Trace, TraceSource};
 use tellturn::evaluate::quality::{Quality, quality};
-use tellturn::evaluate::train::{ModelChoice, TrainOptions, Training, train};
+use tellturn::evaluate::train::{TrainOptions, Training, train};
 use tellturn::sessions::{SessionSet, Severity};
 
 /// Where a set came from.
@@ -43,8 +43,6 @@ pub struct Learned {
     pub out_of_fold: Option<Quality>,
     /// Scores over the untouched test share only.
     pub test_share: Option<Quality>,
-    /// The model kind asked for.
-    pub asked: ModelChoice,
     /// The mean swing after each event label and detail word, with bootstrap intervals.
     pub impact: Result<EventImpact, String>,
     /// Leverage by turn number, with the turns far above their neighbours.
@@ -108,7 +106,6 @@ impl Learned {
             training,
             out_of_fold,
             test_share,
-            asked: options.choice,
             impact,
             leverage,
             balance,
@@ -156,6 +153,8 @@ pub struct Bundle {
     pub facts_threshold: f64,
     /// Facts being recomputed on a worker (large sets).
     pub facts_job: Option<Job<(f64, Option<DecisionReport>)>>,
+    /// A threshold waiting for the running recomputation to end.
+    pub facts_pending: Option<f64>,
     /// Bumped whenever `facts` or `traces` change, so views can refresh their caches.
     pub generation: u64,
 }
@@ -187,6 +186,7 @@ impl Bundle {
             decisions_error: None,
             facts_threshold: f64::NAN,
             facts_job: None,
+            facts_pending: None,
             generation: 0,
         }
     }
@@ -250,12 +250,18 @@ impl Bundle {
         self.install_facts(report, threshold);
     }
 
-    fn decide(set: &SessionSet, traces: &[Trace], threshold: f64) -> Result<Option<DecisionReport>, String> {
+    fn decide(
+        set: &SessionSet,
+        traces: &[Trace],
+        threshold: f64,
+    ) -> Result<Option<DecisionReport>, String> {
         let refs: Vec<&Trace> = traces.iter().collect();
         if refs.is_empty() {
             return Ok(None);
         }
-        decision_report(&refs, &[set], threshold).map(Some).map_err(|e| e.to_string())
+        decision_report(&refs, &[set], threshold)
+            .map(Some)
+            .map_err(|e| e.to_string())
     }
 
     /// Sets with more sessions than this recompute their facts on a worker, so dragging the
@@ -268,6 +274,11 @@ impl Bundle {
             self.refresh_facts(threshold);
             return;
         }
+        if self.facts_job.is_some() {
+            // One recomputation at a time: the latest threshold runs when this one ends.
+            self.facts_pending = Some(threshold);
+            return;
+        }
         let (set, traces) = (self.set.clone(), self.traces.clone());
         self.facts_job = Some(Job::spawn_quick(ctx, "deciding sessions", move |_, _| {
             Ok((threshold, Self::decide(&set, &traces, threshold)?))
@@ -275,10 +286,13 @@ impl Bundle {
     }
 
     /// Install facts computed on a worker, if they are for the current threshold.
-    pub fn poll_facts(&mut self, current: f64) {
+    pub fn poll_facts(&mut self, ctx: &egui::Context, current: f64) {
         let Some(j) = &mut self.facts_job else { return };
         let Some(r) = j.poll() else { return };
         self.facts_job = None;
+        if let Some(next) = self.facts_pending.take() {
+            self.refresh_facts_later(ctx, next);
+        }
         match r {
             Ok((t, report)) if t == current => self.install_facts(Ok(report), t),
             Ok(_) => {}
@@ -356,6 +370,7 @@ impl Shelf {
         self.bundles.iter_mut().find(|b| b.id == id)
     }
     /// Whether any set is loading or training.
+    #[cfg_attr(not(test), allow(dead_code))]
     pub fn any_busy(&self) -> bool {
         self.bundles.iter().any(|b| b.busy().is_some())
     }

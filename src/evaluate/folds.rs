@@ -2,8 +2,8 @@
 //!
 //! Splits are always by session, never by row (turns of one game are strongly correlated, so a
 //! row split leaks — common practice). Strata are (winner seat, variant); within a stratum,
-//! sessions are ordered by a seeded hash of their set and id, so the assignment does not depend
-//! on the order of the files.
+//! sessions are ordered by a seeded hash of their id, so the assignment depends neither on the
+//! order of the files nor on where the set's folder is.
 
 use crate::features::stable_hash;
 use serde::{Deserialize, Serialize};
@@ -12,8 +12,9 @@ use std::collections::BTreeMap;
 /// What the splitter needs to know about one finished session.
 #[derive(Debug, Clone)]
 pub struct SessionKey {
-    /// The set's name (sessions in different sets may share ids).
-    pub set_name: String,
+    /// Which copy of this id it is, when several sets given together share session ids
+    /// (0 for the first set, in argument order, that holds the id).
+    pub duplicate: u32,
     /// The session id.
     pub id: String,
     /// Winner seat, `None` for a draw.
@@ -73,11 +74,12 @@ pub fn split_sessions(keys: &[SessionKey], test_share: f64, folds: usize, seed: 
     let folds = folds.max(1);
     let mut strata: BTreeMap<Stratum, Vec<(u64, usize)>> = BTreeMap::new();
     for (i, k) in keys.iter().enumerate() {
-        let name = format!("{}\u{1f}{}", k.set_name, k.id);
+        // The id alone (not the folder name) decides, so moving or renaming a set's folder
+        // does not change its split.
         strata
             .entry((k.winner_seat, k.variant.clone()))
             .or_default()
-            .push((stable_hash(seed, &name, 0), i));
+            .push((stable_hash(seed, &k.id, k.duplicate as u64), i));
     }
     let mut roles = vec![Role::Fold(0); keys.len()];
     let share = test_share.clamp(0.0, 0.9);
@@ -107,7 +109,7 @@ mod tests {
     fn keys(n: usize) -> Vec<SessionKey> {
         (0..n)
             .map(|i| SessionKey {
-                set_name: "a".into(),
+                duplicate: 0,
                 id: format!("s{i}"),
                 winner_seat: Some(i % 3 % 2),
                 variant: Some(if i % 5 == 0 { "B" } else { "A" }.into()),

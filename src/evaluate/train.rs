@@ -348,12 +348,17 @@ pub fn train(
     }
     let mut finished = Vec::new();
     let mut keys = Vec::new();
+    let mut seen_ids: std::collections::HashMap<&str, u32> = Default::default();
     for (si, set) in sets.iter().enumerate() {
         for (k, s) in set.sessions.iter().enumerate() {
             if s.is_finished() {
                 finished.push((si, k));
                 keys.push(SessionKey {
-                    set_name: set.name.clone(),
+                    duplicate: {
+                        let n = seen_ids.entry(s.id.as_str()).or_insert(0);
+                        *n += 1;
+                        *n - 1
+                    },
                     id: s.id.clone(),
                     winner_seat: s.winner_seat(),
                     variant: s.variant().map(str::to_string),
@@ -623,8 +628,11 @@ pub fn train(
         let mut ordered: Vec<(u64, (usize, usize))> = train_sessions
             .iter()
             .map(|&(si, k)| {
-                let id = format!("{}\u{1f}{}", sets[si].name, sets[si].sessions[k].id);
-                (crate::features::stable_hash(options.seed, &id, 11), (si, k))
+                let id = &sets[si].sessions[k].id;
+                (
+                    crate::features::stable_hash(options.seed, id, 11 + si as u64),
+                    (si, k),
+                )
             })
             .collect();
         ordered.sort_unstable();

@@ -93,7 +93,7 @@ fn wheel(h: &Harness<'_, State>, at: egui::Pos2, dy: f32) {
 
 fn drag(h: &Harness<'_, State>, i: usize, from: egui::Pos2) {
     let pos = from + egui::vec2(((i % 60) as f32 - 30.0) * 6.0, 0.0);
-    if i % 60 == 0 {
+    if i.is_multiple_of(60) {
         h.event(egui::Event::PointerButton {
             pos,
             button: egui::PointerButton::Primary,

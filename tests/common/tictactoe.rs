@@ -85,7 +85,6 @@ pub fn play(rng: &mut ChaCha8Rng) -> Game {
     }
 }
 
-
 /// Outcome of [`check`].
 pub struct Check {
     /// Positions scored (held-out games).
@@ -123,7 +122,11 @@ pub fn check(games: usize, seed: u64) -> Check {
         outcomes.push_str(&format!("t{g},{w},X\n"));
         played.push(game);
     }
-    let set = load_set_from_reader(events.as_bytes(), EventSource::Csv, Some(outcomes.as_bytes()));
+    let set = load_set_from_reader(
+        events.as_bytes(),
+        EventSource::Csv,
+        Some(outcomes.as_bytes()),
+    );
     assert!(set.is_usable(), "{:?}", set.problems);
     let options = TrainOptions {
         choice: ModelChoice::Boosted,
@@ -134,7 +137,11 @@ pub fn check(games: usize, seed: u64) -> Check {
     let training = train(&[&set], &options, &NoProgress, &Cancel::new()).unwrap();
     let mut memo = HashMap::new();
     let mut errors = Vec::new();
-    for t in training.traces.iter().filter(|t| t.source == TraceSource::Test) {
+    for t in training
+        .traces
+        .iter()
+        .filter(|t| t.source == TraceSource::Test)
+    {
         let id = &set.sessions[t.session].id;
         let g: usize = id[1..].parse().unwrap();
         let mut b = [0u8; 9];

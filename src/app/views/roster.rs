@@ -247,6 +247,7 @@ impl Roster {
     }
 
     /// Draw the table; `selected` is the selected session (index in its set).
+    #[allow(clippy::too_many_arguments)]
     pub fn ui(
         &mut self,
         ui: &mut Ui,
