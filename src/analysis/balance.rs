@@ -438,7 +438,16 @@ fn balance_findings(
         pct(params.power),
         pct(params.significance)
     );
+    let first_interval = seats[0].interval;
+    let edge_is_clear = !first_interval.contains(fair);
     out.push(match detect.detectable_rate {
+        // An interval that already excludes the fair share says more than detectability.
+        _ if edge_is_clear => format!(
+            "The first-seat edge is clear: its 95 % interval ({}–{} %) leaves out the fair {} %.",
+            pct(first_interval.lo),
+            pct(first_interval.hi),
+            pct(fair)
+        ),
         Some(r) if detect.detects_five_points => format!(
             "With {n} sessions the set detects a first-seat win rate of {} % or more against a fair {} % ({design}), so it can tell {edge}.",
             pct(r),

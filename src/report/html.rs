@@ -1029,18 +1029,19 @@ pub fn render(study: &Study) -> String {
         escape(CAUTION)
     );
     let _ = write!(out, "<h2>Findings</h2>");
-    for f in study
-        .findings
-        .headlines
-        .iter()
-        .filter(|f| f.text != CAUTION)
-    {
-        let _ = write!(out, "<p class=finding>• {}</p>", escape(&f.text));
-    }
-    if let Some(c) = &study.comparison {
-        for v in &c.verdicts {
-            let _ = write!(out, "<p class='finding verdict'>• {}</p>", escape(v));
+    // With two sides the top holds the comparison; each side's own findings open its section.
+    let two = study.sides.len() > 1;
+    let mut shown: Vec<&str> = Vec::new();
+    for f in study.findings.headlines.iter().filter(|f| f.text != CAUTION) {
+        use crate::analysis::findings::Topic;
+        if two && !matches!(f.topic, Topic::Variant | Topic::NotEnoughSessions) {
+            continue;
         }
+        if shown.contains(&f.text.as_str()) {
+            continue;
+        }
+        shown.push(&f.text);
+        let _ = write!(out, "<p class=finding>• {}</p>", escape(&f.text));
     }
     for n in &study.notes {
         let _ = write!(out, "<p class=muted>{}</p>", escape(n));
@@ -1048,8 +1049,12 @@ pub fn render(study: &Study) -> String {
     for (k, side) in study.sides.iter().enumerate() {
         let _ = write!(out, "<div class=side><h2>{}</h2>", escape(&side.name));
         if study.sides.len() > 1 {
+            let mut shown: Vec<&str> = Vec::new();
             for f in side.findings.headlines.iter().filter(|f| f.text != CAUTION) {
-                let _ = write!(out, "<p class=finding>• {}</p>", escape(&f.text));
+                if !shown.contains(&f.text.as_str()) {
+                    shown.push(&f.text);
+                    let _ = write!(out, "<p class=finding>• {}</p>", escape(&f.text));
+                }
             }
         }
         decided_section(&mut out, study, side);
