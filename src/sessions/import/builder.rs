@@ -62,6 +62,7 @@ pub(crate) struct SetBuilder {
     stopped: bool,
     outcomes: Vec<RawOutcome>,
     outcome_file: PathBuf,
+    last_session: Option<usize>,
 }
 
 impl SetBuilder {
@@ -80,6 +81,7 @@ impl SetBuilder {
             stopped: false,
             outcomes: Vec::new(),
             outcome_file: PathBuf::new(),
+            last_session: None,
         }
     }
 
@@ -199,8 +201,10 @@ impl SetBuilder {
             self.warn(p);
             return true;
         }
-        let index = match self.session_index.get(id) {
-            Some(&i) => i,
+        // Rows of a session usually come together: skip the lookup while the id repeats.
+        let cached = self.last_session.filter(|&i| self.sessions[i].id == id);
+        let index = match cached.or_else(|| self.session_index.get(id).copied()) {
+            Some(i) => i,
             None => {
                 if self.sessions.len() >= MAX_SESSIONS {
                     self.stopped = true;
@@ -228,6 +232,7 @@ impl SetBuilder {
                 self.sessions.len() - 1
             }
         };
+        self.last_session = Some(index);
         if self.sessions[index].aside.is_some() {
             return true;
         }
@@ -578,7 +583,12 @@ impl SetBuilder {
                     line: row.line,
                 });
             }
-            for e in &mut events {
+            // Only rebuild state values when some column was dropped or renumbered.
+            let renumbered = keep
+                .iter()
+                .enumerate()
+                .any(|(i, k)| *k != Some(i as u16));
+            for e in events.iter_mut().filter(|e| renumbered && !e.state.is_empty()) {
                 let state: Vec<(u16, f64)> = e
                     .state
                     .iter()
