@@ -44,7 +44,7 @@ const COLUMNS: [Column; 9] = [
         title: "Decided at",
         width: 80.0,
         numeric: true,
-        help: "The decided turn: from this turn on, the eventual winner's win chance stayed at or above the threshold (top bar) until the end. Blank: never that clear.",
+        help: "The decided turn: from this turn on, the eventual winner's win chance stayed at or above the threshold (top bar) until the end. \"never\": the result was never that clear (or it was a draw).",
     },
     Column {
         title: "Settled",
@@ -53,7 +53,7 @@ const COLUMNS: [Column; 9] = [
         help: "Settled share: the share of the session's turns played after it was decided. High values mean long stretches where the result was no longer in doubt.",
     },
     Column {
-        title: "Swinginess",
+        title: "Excitement",
         width: 85.0,
         numeric: true,
         help: "Excitement: how much the win chances moved in total (every turn's swings added up, per player). Higher means a more back-and-forth game.",
@@ -120,9 +120,11 @@ fn cells(set: &SessionSet, facts: &[SessionFacts], k: usize) -> Vec<String> {
         s.winner_name().to_string(),
         s.victory().unwrap_or("").to_string(),
         s.turn_count().to_string(),
-        f.and_then(|f| f.decided_turn)
-            .map(|t| t.to_string())
-            .unwrap_or_default(),
+        match (s.is_finished(), f.and_then(|f| f.decided_turn)) {
+            (_, Some(t)) => t.to_string(),
+            (true, None) => "never".to_string(),
+            (false, None) => String::new(),
+        },
         f.and_then(|f| f.settled_share)
             .map(|x| format!("{:.0} %", 100.0 * x))
             .unwrap_or_default(),
