@@ -17,6 +17,20 @@ pub fn run(args: &ReportArgs) -> anyhow::Result<i32> {
             args.threshold
         );
     }
+    // Refuse an output inside an input folder before any work is done.
+    let roots: Vec<std::path::PathBuf> = args
+        .sets
+        .iter()
+        .chain(&args.vs)
+        .map(|p| {
+            if p.is_file() {
+                p.parent().map(|x| x.to_path_buf()).unwrap_or_default()
+            } else {
+                p.clone()
+            }
+        })
+        .collect();
+    tellturn::report::check_output_dir(&roots, &args.out)?;
     let a = load_sets(&args.sets, &progress)?;
     let b = load_sets(&args.vs, &progress)?;
     let mut train = args.train.options();

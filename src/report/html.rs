@@ -1032,7 +1032,12 @@ pub fn render(study: &Study) -> String {
     // With two sides the top holds the comparison; each side's own findings open its section.
     let two = study.sides.len() > 1;
     let mut shown: Vec<&str> = Vec::new();
-    for f in study.findings.headlines.iter().filter(|f| f.text != CAUTION) {
+    for f in study
+        .findings
+        .headlines
+        .iter()
+        .filter(|f| f.text != CAUTION)
+    {
         use crate::analysis::findings::Topic;
         if two && !matches!(f.topic, Topic::Variant | Topic::NotEnoughSessions) {
             continue;

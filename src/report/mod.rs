@@ -52,30 +52,59 @@ fn canonical(p: &Path) -> PathBuf {
     std::fs::canonicalize(p).unwrap_or_else(|_| p.to_path_buf())
 }
 
-/// Write every report file into `out` (created if needed).
+/// Where `out` would be once created: its nearest existing ancestor, resolved, plus the rest.
+fn resolved(out: &Path) -> PathBuf {
+    let absolute = if out.is_absolute() {
+        out.to_path_buf()
+    } else {
+        std::env::current_dir().unwrap_or_default().join(out)
+    };
+    let mut rest = Vec::new();
+    let mut at = absolute.as_path();
+    while !at.exists() {
+        match (at.parent(), at.file_name()) {
+            (Some(parent), Some(name)) => {
+                rest.push(name.to_os_string());
+                at = parent;
+            }
+            _ => break,
+        }
+    }
+    let mut p = canonical(at);
+    for name in rest.iter().rev() {
+        p.push(name);
+    }
+    p
+}
+
+/// Refuse an output folder that is, or lies inside, one of the input folders (checked before
+/// anything is created or trained).
+pub fn check_output_dir(roots: &[PathBuf], out: &Path) -> Result<(), ReportError> {
+    let target = resolved(out);
+    for root in roots.iter().filter(|r| !r.as_os_str().is_empty()) {
+        if target.starts_with(canonical(root)) {
+            return Err(ReportError::IntoInput {
+                out: out.to_path_buf(),
+                input: root.clone(),
+            });
+        }
+    }
+    Ok(())
+}
+
+/// Write every report file into `out` (created if needed; never inside an input folder).
 pub fn write_report(
     study: &Study,
     out: &Path,
     progress: &dyn Progress,
     cancel: &Cancel,
 ) -> Result<Vec<PathBuf>, ReportError> {
+    let roots: Vec<PathBuf> = study.sets.iter().map(|s| s.root.clone()).collect();
+    check_output_dir(&roots, out)?;
     std::fs::create_dir_all(out).map_err(|source| ReportError::Io {
         path: out.to_path_buf(),
         source,
     })?;
-    let out_c = canonical(out);
-    for set in &study.sets {
-        if set.root.as_os_str().is_empty() {
-            continue;
-        }
-        let input = canonical(&set.root);
-        if out_c.starts_with(&input) {
-            return Err(ReportError::IntoInput {
-                out: out.to_path_buf(),
-                input: set.root.clone(),
-            });
-        }
-    }
     type Writer = fn(&Study, &mut dyn std::io::Write) -> std::io::Result<()>;
     let writers: [(&str, Writer); 6] = [
         ("report.html", |s, w| {
