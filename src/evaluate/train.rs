@@ -181,6 +181,14 @@ impl Chosen {
     }
 }
 
+/// Prepared rows of some sessions: keys, features and labels.
+struct Data {
+    rows: Vec<crate::features::RowKey>,
+    x: Matrix,
+    won: Vec<f32>,
+    draw: Vec<f32>,
+}
+
 struct Ctx<'a> {
     sets: &'a [&'a SessionSet],
     spec: FeatureSpec,
@@ -228,14 +236,33 @@ impl Ctx<'_> {
         fitting: bool,
     ) -> Result<(TurnTable, Matrix), TrainError> {
         let t0 = Instant::now();
-        let table = if fitting {
+        let mut table = if fitting {
             build_training_table(&self.spec, self.sets, sessions, sample, self.cancel)?
         } else {
             build_table(&self.spec, self.sets, sessions, sample, self.cancel)?
         };
-        let x = Matrix::new(table.rows.len(), table.width(), table.values.clone())?;
+        // Move the values into the matrix: a second copy of a big table would double the memory.
+        let values = std::mem::take(&mut table.values);
+        let x = Matrix::new(table.rows.len(), table.columns.len(), values)?;
         self.timings.features += t0.elapsed().as_secs_f64();
         Ok((table, x))
+    }
+
+    /// Rows, matrix and labels of some sessions.
+    fn data(&mut self, sessions: &[(usize, usize)], fitting: bool) -> Result<Data, TrainError> {
+        let sample = if fitting {
+            self.sample
+        } else {
+            TurnSample::All
+        };
+        let (table, x) = self.table(sessions, sample, fitting)?;
+        let (won, draw) = labels(self.sets, &table);
+        Ok(Data {
+            rows: table.rows,
+            x,
+            won,
+            draw,
+        })
     }
 
     /// Fit the win model (and a draw model when the sessions have draws).
@@ -247,16 +274,24 @@ impl Ctx<'_> {
         stage: &str,
         with_draw: bool,
     ) -> Result<(Fitted, Option<Fitted>, usize, Option<usize>), TrainError> {
-        let (table, x) = self.table(sessions, self.sample, true)?;
-        let (won, draw) = labels(self.sets, &table);
-        let valid_data = match valid {
-            Some(v) => {
-                let (vt, vx) = self.table(v, TurnSample::All, false)?;
-                let (vwon, _) = labels(self.sets, &vt);
-                Some((vx, vwon))
-            }
+        let data = self.data(sessions, true)?;
+        let valid = match valid {
+            Some(v) => Some(self.data(v, false)?),
             None => None,
         };
+        self.fit_data(chosen, &data, valid.as_ref(), stage, with_draw)
+    }
+
+    /// Fit on prepared data (tuning reuses one fold's data for every candidate).
+    fn fit_data(
+        &mut self,
+        chosen: &Chosen,
+        data: &Data,
+        valid: Option<&Data>,
+        stage: &str,
+        with_draw: bool,
+    ) -> Result<(Fitted, Option<Fitted>, usize, Option<usize>), TrainError> {
+        let (x, won, draw) = (&data.x, &data.won, &data.draw);
         let t0 = Instant::now();
         let progress = StageProgress {
             inner: self.progress,
@@ -264,12 +299,10 @@ impl Ctx<'_> {
         };
         let mut rounds = None;
         let win = match chosen {
-            Chosen::Logistic(p) => {
-                Fitted::Logistic(p.fit(&x, &won, None, &progress, self.cancel)?)
-            }
+            Chosen::Logistic(p) => Fitted::Logistic(p.fit(x, won, None, &progress, self.cancel)?),
             Chosen::Boosted(p) => {
-                let v = valid_data.as_ref().map(|(vx, vy)| (vx, vy.as_slice()));
-                let m = p.fit(&x, &won, None, v, &progress, self.cancel)?;
+                let v = valid.map(|v| (&v.x, v.won.as_slice()));
+                let m = p.fit(x, won, None, v, &progress, self.cancel)?;
                 rounds = Some(m.best_rounds);
                 Fitted::Boosted(m)
             }
@@ -279,26 +312,24 @@ impl Ctx<'_> {
         let draw_model = if with_draw && draw.iter().any(|&d| d > 0.5) {
             Some(match chosen {
                 Chosen::Logistic(p) => {
-                    Fitted::Logistic(p.fit(&x, &draw, None, &progress, self.cancel)?)
+                    Fitted::Logistic(p.fit(x, draw, None, &progress, self.cancel)?)
                 }
                 Chosen::Boosted(p) => {
-                    Fitted::Boosted(p.fit(&x, &draw, None, None, &progress, self.cancel)?)
+                    Fitted::Boosted(p.fit(x, draw, None, None, &progress, self.cancel)?)
                 }
             })
         } else {
             None
         };
         self.timings.fit += t0.elapsed().as_secs_f64();
-        Ok((win, draw_model, table.rows.len(), rounds))
+        Ok((win, draw_model, data.rows.len(), rounds))
     }
 
-    /// Validation log loss of a fitted win model on sessions.
-    fn valid_loss(&mut self, win: &Fitted, sessions: &[(usize, usize)]) -> Result<f64, TrainError> {
-        let (table, x) = self.table(sessions, TurnSample::All, false)?;
-        let (won, _) = labels(self.sets, &table);
-        let raw = win.predict_proba(&x);
-        let c = normalise(&table.rows, &raw, None);
-        Ok(row_log_loss(&c.win, &won))
+    /// Validation log loss of a fitted win model on prepared data.
+    fn loss_on(&self, win: &Fitted, data: &Data) -> f64 {
+        let raw = win.predict_proba(&data.x);
+        let c = normalise(&data.rows, &raw, None);
+        row_log_loss(&c.win, &data.won)
     }
 }
 
@@ -479,18 +510,24 @@ pub fn train(
     let cv_folds: Vec<usize> = if small { (0..folds).collect() } else { vec![0] };
     let mut best: Option<(f64, Chosen)> = None;
     let n_candidates = candidates.len();
+    // Each fold's tables are built once and shared by every candidate.
+    let mut fold_data = Vec::new();
+    for &f in &cv_folds {
+        let fit_on = fold_sessions(f, false);
+        let valid = fold_sessions(f, true);
+        if fit_on.is_empty() || valid.is_empty() {
+            continue;
+        }
+        fold_data.push((ctx.data(&fit_on, true)?, ctx.data(&valid, false)?));
+    }
     for (ci, cand) in candidates.into_iter().enumerate() {
         let mut loss = 0.0;
         let mut rounds_sum = 0usize;
         let mut counted = 0usize;
-        for &f in &cv_folds {
-            let fit_on = fold_sessions(f, false);
-            let valid = fold_sessions(f, true);
-            if fit_on.is_empty() || valid.is_empty() {
-                continue;
-            }
-            let (win, _, _, rounds) = ctx.fit(&cand, &fit_on, Some(&valid), "tuning", false)?;
-            loss += ctx.valid_loss(&win, &valid)?;
+        for (fit_data, valid_data) in &fold_data {
+            let (win, _, _, rounds) =
+                ctx.fit_data(&cand, fit_data, Some(valid_data), "tuning", false)?;
+            loss += ctx.loss_on(&win, valid_data);
             rounds_sum += rounds.unwrap_or(0);
             counted += 1;
         }
@@ -643,14 +680,15 @@ pub fn train(
             .map(|f| ((n as f64 * f).round() as usize).max(5).min(n))
             .collect();
         sizes.dedup();
+        let test_data = ctx.data(&test_sessions, false)?;
         for (i, &m) in sizes.iter().enumerate() {
             progress.report("learning curve", i as f64 / sizes.len() as f64);
             let subset: Vec<(usize, usize)> = ordered[..m].iter().map(|x| x.1).collect();
             let loss = if m == n {
-                ctx.valid_loss(&model.win, &test_sessions)?
+                ctx.loss_on(&model.win, &test_data)
             } else {
                 let (win, _, _, _) = ctx.fit(&chosen, &subset, None, "learning curve", false)?;
-                ctx.valid_loss(&win, &test_sessions)?
+                ctx.loss_on(&win, &test_data)
             };
             learning_curve.push(LearningPoint {
                 sessions: m,
