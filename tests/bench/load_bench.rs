@@ -7,7 +7,10 @@ use tellturn::demo::{DemoOptions, Scenario, generate, write_set};
 use tellturn::progress::{Cancel, NoProgress};
 
 fn main() {
-    let rows: usize = std::env::args().skip(1).find_map(|a| a.parse().ok()).unwrap_or(1_000_000);
+    let rows: usize = std::env::args()
+        .skip(1)
+        .find_map(|a| a.parse().ok())
+        .unwrap_or(1_000_000);
     let dir = std::env::temp_dir().join(format!("tellturn-load-bench-{}", std::process::id()));
     // About 137 event rows per board-game session.
     let sessions = rows / 137 + 1;

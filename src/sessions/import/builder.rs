@@ -584,11 +584,11 @@ impl SetBuilder {
                 });
             }
             // Only rebuild state values when some column was dropped or renumbered.
-            let renumbered = keep
-                .iter()
-                .enumerate()
-                .any(|(i, k)| *k != Some(i as u16));
-            for e in events.iter_mut().filter(|e| renumbered && !e.state.is_empty()) {
+            let renumbered = keep.iter().enumerate().any(|(i, k)| *k != Some(i as u16));
+            for e in events
+                .iter_mut()
+                .filter(|e| renumbered && !e.state.is_empty())
+            {
                 let state: Vec<(u16, f64)> = e
                     .state
                     .iter()
