@@ -126,13 +126,33 @@ fn fmt_tick(v: f64) -> String {
     }
 }
 
-fn open(out: &mut String, s: &Scale) {
+fn svg_start(out: &mut String, s: &Scale) {
     let (w, h) = s.f.size;
     let _ = write!(
         out,
         r#"<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {w} {h}" width="{w}" height="{h}" role="img" font-family="sans-serif" font-size="11"><title>{}</title>"#,
         escape(&s.f.title)
     );
+}
+
+fn y_ticks(out: &mut String, s: &Scale) {
+    let w = s.f.size.0;
+    for t in ticks(s.f.y, 5) {
+        let y = s.py(t);
+        let _ = write!(
+            out,
+            r##"<line x1="{LEFT}" y1="{y:.1}" x2="{}" y2="{y:.1}" stroke="#ddd"/><text x="{}" y="{:.1}" text-anchor="end" fill="#444">{}</text>"##,
+            w - RIGHT,
+            LEFT - 4.0,
+            y + 4.0,
+            fmt_tick(t)
+        );
+    }
+}
+
+fn open(out: &mut String, s: &Scale) {
+    let (w, h) = s.f.size;
+    svg_start(out, s);
     let _ = write!(
         out,
         r##"<rect x="{LEFT}" y="{TOP}" width="{}" height="{}" fill="none" stroke="#999"/>"##,
@@ -150,17 +170,7 @@ fn open(out: &mut String, s: &Scale) {
             fmt_tick(t)
         );
     }
-    for t in ticks(s.f.y, 5) {
-        let y = s.py(t);
-        let _ = write!(
-            out,
-            r##"<line x1="{LEFT}" y1="{y:.1}" x2="{}" y2="{y:.1}" stroke="#ddd"/><text x="{}" y="{:.1}" text-anchor="end" fill="#444">{}</text>"##,
-            w - RIGHT,
-            LEFT - 4.0,
-            y + 4.0,
-            fmt_tick(t)
-        );
-    }
+    y_ticks(out, s);
     let _ = write!(
         out,
         r##"<text x="{:.1}" y="{}" text-anchor="middle" fill="#222">{}</text><text x="12" y="{:.1}" text-anchor="middle" fill="#222" transform="rotate(-90 12 {:.1})">{}</text>"##,
@@ -302,22 +312,8 @@ pub fn bar_chart(frame: Frame, bars: &[Bar]) -> String {
     let s = Scale { f };
     let mut out = String::new();
     let (w, h) = s.f.size;
-    let _ = write!(
-        out,
-        r#"<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {w} {h}" width="{w}" height="{h}" role="img" font-family="sans-serif" font-size="11"><title>{}</title>"#,
-        escape(&s.f.title)
-    );
-    for t in ticks(s.f.y, 5) {
-        let y = s.py(t);
-        let _ = write!(
-            out,
-            r##"<line x1="{LEFT}" y1="{y:.1}" x2="{}" y2="{y:.1}" stroke="#ddd"/><text x="{}" y="{:.1}" text-anchor="end" fill="#444">{}</text>"##,
-            w - RIGHT,
-            LEFT - 4.0,
-            y + 4.0,
-            fmt_tick(t)
-        );
-    }
+    svg_start(&mut out, &s);
+    y_ticks(&mut out, &s);
     references(&mut out, &s);
     let slot = (w - LEFT - RIGHT) / n;
     for (i, b) in bars.iter().enumerate() {
