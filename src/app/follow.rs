@@ -148,3 +148,79 @@ impl Follow {
         None
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use std::io::Write;
+    use tellturn::evaluate::train::{TrainOptions, train};
+    use tellturn::progress::{Cancel, NoProgress};
+
+    #[test]
+    fn a_growing_live_log_is_rescored_without_retraining() {
+        let dir = std::env::temp_dir().join(format!("tellturn-follow-{}", std::process::id()));
+        let _ = std::fs::remove_dir_all(&dir);
+        std::fs::create_dir_all(&dir).unwrap();
+        let sample =
+            Path::new(env!("CARGO_MANIFEST_DIR")).join("sample_sessions/tarnsluice-exercise");
+        for f in ["events.csv", "outcomes.csv"] {
+            std::fs::copy(sample.join(f), dir.join(f)).unwrap();
+        }
+        let set = load_set(&dir);
+        let options = TrainOptions {
+            cross_fit: false,
+            learning_curve: false,
+            ..TrainOptions::default()
+        };
+        let training = train(&[&set], &options, &NoProgress, &Cancel::new()).unwrap();
+        let open = set.sessions.iter().position(|s| !s.is_finished()).unwrap();
+        let turns_before = training
+            .traces
+            .iter()
+            .find(|t| t.session == open)
+            .unwrap()
+            .len();
+        let model = Arc::new(training.model);
+        let old_set = Arc::new(set);
+        let old_traces = Arc::new(training.traces);
+        let mut follow = Follow::new(1, &dir, &old_set.files);
+        // The facilitator's log grows by two turns of the session in progress.
+        let id = old_set.sessions[open].id.clone();
+        let mut f = std::fs::OpenOptions::new()
+            .append(true)
+            .open(dir.join("events.csv"))
+            .unwrap();
+        writeln!(f, "{id},{},Weir Desk,crew_sent,,10", turns_before + 1).unwrap();
+        writeln!(f, "{id},{},Squall Cell,escalation,,17", turns_before + 2).unwrap();
+        drop(f);
+        let ctx = egui::Context::default();
+        let started = Instant::now();
+        let reread = loop {
+            if let Some(r) = follow.tick(&ctx, Some(model.clone()), &old_set, &old_traces) {
+                break r.expect("re-read");
+            }
+            assert!(
+                started.elapsed() < Duration::from_secs(20),
+                "no re-read arrived"
+            );
+            std::thread::sleep(Duration::from_millis(50));
+        };
+        let trace = reread.traces.iter().find(|t| t.session == open).unwrap();
+        assert_eq!(trace.len(), turns_before + 2);
+        assert_eq!(trace.source, TraceSource::Scored);
+        // Finished sessions keep their out-of-fold traces.
+        let finished = reread
+            .traces
+            .iter()
+            .filter(|t| t.source != TraceSource::Scored)
+            .count();
+        assert_eq!(
+            finished,
+            old_traces
+                .iter()
+                .filter(|t| t.source != TraceSource::Scored)
+                .count()
+        );
+        let _ = std::fs::remove_dir_all(&dir);
+    }
+}
