@@ -250,12 +250,9 @@ impl Ctx<'_> {
 
     /// Rows, matrix and labels of some sessions.
     fn data(&mut self, sessions: &[(usize, usize)], fitting: bool) -> Result<Data, TrainError> {
-        let sample = if fitting {
-            self.sample
-        } else {
-            TurnSample::All
-        };
-        let (table, x) = self.table(sessions, sample, fitting)?;
+        // Validation and learning-curve rows are sampled like fitting rows when a set is too
+        // large to use every turn; traces are always scored on every turn (score_sessions).
+        let (table, x) = self.table(sessions, self.sample, fitting)?;
         let (won, draw) = labels(self.sets, &table);
         Ok(Data {
             rows: table.rows,
@@ -557,6 +554,8 @@ pub fn train(
             best = Some((loss, tuned));
         }
     }
+    // Free the tuning tables before the final fit builds its own.
+    drop(fold_data);
     let Some((best_loss, chosen)) = best else {
         return Err(TrainError::TooFew {
             found: finished.len(),
