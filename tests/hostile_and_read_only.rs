@@ -163,3 +163,28 @@ fn a_report_is_never_written_into_an_input_folder() {
     );
     let _ = std::fs::remove_dir_all(&input);
 }
+
+#[test]
+fn check_exits_zero_for_usable_sets_and_one_for_unusable_ones() {
+    let inputs = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/inputs");
+    let ok = tellturn(&["check", inputs.join("nan").to_str().unwrap()]);
+    assert_eq!(
+        ok.status.code(),
+        Some(0),
+        "warnings alone keep a set usable"
+    );
+    let text = String::from_utf8_lossy(&ok.stdout);
+    assert!(
+        text.contains("events.csv:8: `NaN` in column `score`"),
+        "{text}"
+    );
+    let bad = tellturn(&[
+        "check",
+        "--json",
+        inputs.join("missing_column").to_str().unwrap(),
+    ]);
+    assert_eq!(bad.status.code(), Some(1));
+    let json: serde_json::Value = serde_json::from_slice(&bad.stdout).expect("JSON");
+    assert_eq!(json[0]["usable"], false);
+    assert_eq!(json[0]["problems"][0]["kind"], "missing_column");
+}
