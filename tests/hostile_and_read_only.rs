@@ -188,3 +188,51 @@ fn check_exits_zero_for_usable_sets_and_one_for_unusable_ones() {
     assert_eq!(json[0]["usable"], false);
     assert_eq!(json[0]["problems"][0]["kind"], "missing_column");
 }
+
+#[test]
+fn ctrl_c_stops_a_report_and_leaves_no_output() {
+    let out = scratch("ctrl-c-out");
+    let report = out.join("rep");
+    let set = Path::new(env!("CARGO_MANIFEST_DIR")).join("sample_sessions/vessmire-a");
+    let mut child = Command::new(env!("CARGO_BIN_EXE_tellturn"))
+        .args([
+            "report",
+            set.to_str().unwrap(),
+            "--out",
+            report.to_str().unwrap(),
+            "-q",
+        ])
+        .stdout(std::process::Stdio::null())
+        .stderr(std::process::Stdio::piped())
+        .spawn()
+        .unwrap();
+    std::thread::sleep(std::time::Duration::from_millis(1500));
+    // The shell's own `kill` is always there.
+    let _ = Command::new("sh")
+        .args(["-c", &format!("kill -INT {}", child.id())])
+        .status();
+    let started = std::time::Instant::now();
+    let status = child.wait().unwrap();
+    // A liveness bound, not a speed claim: the engine checks the cancel flag every tree.
+    assert!(started.elapsed() < std::time::Duration::from_secs(10));
+    assert!(
+        !status.success(),
+        "a cancelled report must not report success"
+    );
+    let leftovers: Vec<_> = std::fs::read_dir(&out)
+        .unwrap()
+        .flat_map(|e| {
+            let p = e.unwrap().path();
+            if p.is_dir() {
+                std::fs::read_dir(p)
+                    .unwrap()
+                    .map(|e| e.unwrap().path())
+                    .collect::<Vec<_>>()
+            } else {
+                vec![p]
+            }
+        })
+        .collect();
+    assert!(leftovers.is_empty(), "{leftovers:?}");
+    let _ = std::fs::remove_dir_all(&out);
+}
