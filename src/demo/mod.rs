@@ -412,3 +412,23 @@ pub(crate) fn standard_normal<R: rand::Rng>(rng: &mut R) -> f64 {
 
 #[cfg(test)]
 mod tests;
+
+/// The last turn kept of session `index`: the whole log for finished sessions; for the last
+/// `opts.in_progress` sessions (still being played), a seeded cut between
+/// `last_turn / earliest_part` and the end.
+pub(crate) fn kept_turns(
+    opts: &DemoOptions,
+    index: usize,
+    last_turn: u32,
+    earliest_part: u32,
+) -> (bool, u32) {
+    use rand::Rng;
+    let in_progress = index >= opts.sessions - opts.in_progress;
+    let kept = if in_progress && last_turn >= 2 {
+        let mut cut = stream_rng(opts.seed, Stream::Cut, index as u64, 0);
+        cut.gen_range((last_turn / earliest_part).max(1)..last_turn)
+    } else {
+        last_turn
+    };
+    (in_progress, kept)
+}

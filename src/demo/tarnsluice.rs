@@ -395,13 +395,7 @@ fn simulate(opts: &DemoOptions, index: usize, cancel: &Cancel) -> Result<Session
     }
     let last_turn = turn;
 
-    let in_progress = index >= opts.sessions - opts.in_progress;
-    let kept = if in_progress && last_turn >= 2 {
-        let mut cut = stream_rng(seed, Stream::Cut, index as u64, 0);
-        cut.gen_range((last_turn / 3).max(1)..last_turn)
-    } else {
-        last_turn
-    };
+    let (in_progress, kept) = super::kept_turns(opts, index, last_turn, 3);
     events.retain(|e| e.turn <= kept);
 
     let outcome = (!in_progress).then(|| {
