@@ -352,8 +352,12 @@ pub fn score_sessions(
 ) -> Result<Vec<Trace>, Cancelled> {
     let mut traces = Vec::with_capacity(sessions.len());
     for chunk in sessions.chunks(2_000) {
-        let table = build_table(&model.spec, sets, chunk, TurnSample::All, cancel)?;
-        let chances = model.chances(&table);
+        let mut table = build_table(&model.spec, sets, chunk, TurnSample::All, cancel)?;
+        // Move the values into the matrix rather than copy them; traces need only the keys.
+        let values = std::mem::take(&mut table.values);
+        let x = Matrix::new(table.rows.len(), table.columns.len(), values)
+            .unwrap_or_else(|_| Matrix::zeros(0, table.columns.len()));
+        let chances = model.chances_of(&table.rows, &x);
         traces.extend(model.traces_from(&table, &chances, |k| {
             source(k.set as usize, k.session as usize)
         }));
