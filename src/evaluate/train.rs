@@ -7,6 +7,7 @@ use crate::analysis::traces::{Trace, TraceSource};
 use crate::features::{
     FeatureParams, FeatureSpec, TurnSample, TurnTable, build_table, build_training_table,
 };
+use crate::models::boosted::bins::BinnedData;
 use crate::models::win_model::{Fitted, ModelSummary, WinModel, normalise};
 use crate::models::{BoostedParams, FitError, LogisticParams, Matrix};
 use crate::progress::{Cancel, Cancelled, Progress};
@@ -187,12 +188,31 @@ struct Data {
     x: Matrix,
     won: Vec<f32>,
     draw: Vec<f32>,
+    /// The rows binned for boosted trees, made on first use and shared by every boosted fit
+    /// on these rows (win and draw models, tuning candidates): every candidate of a run has
+    /// the run's bin settings (`Ctx::bins`).
+    binned: std::cell::OnceCell<BinnedData>,
+}
+
+impl Data {
+    /// The rows binned with the run's bin settings (binned once, then reused).
+    fn binned(&self, bins: &BoostedParams) -> Result<&BinnedData, FitError> {
+        if let Some(b) = self.binned.get() {
+            return Ok(b);
+        }
+        let b = bins.bin(&self.x)?;
+        Ok(self.binned.get_or_init(|| b))
+    }
 }
 
 struct Ctx<'a> {
     sets: &'a [&'a SessionSet],
     spec: FeatureSpec,
     sample: TurnSample,
+    /// Bin settings (`max_bins`, `seed`) shared by every boosted fit of the run.
+    bins: BoostedParams,
+    /// Rounds of boosted draw models, when tuning chose them by early stopping.
+    draw_rounds: Option<usize>,
     cancel: &'a Cancel,
     progress: &'a dyn Progress,
     timings: Timings,
@@ -259,6 +279,7 @@ impl Ctx<'_> {
             x,
             won,
             draw,
+            binned: Default::default(),
         })
     }
 
@@ -288,6 +309,20 @@ impl Ctx<'_> {
         stage: &str,
         with_draw: bool,
     ) -> Result<(Fitted, Option<Fitted>, usize, Option<usize>), TrainError> {
+        self.fit_data_from(chosen, data, valid, stage, with_draw, None)
+    }
+
+    /// [`Self::fit_data`], a logistic win model started from `warm` (an earlier logistic fit
+    /// on the same data with another penalty).
+    fn fit_data_from(
+        &mut self,
+        chosen: &Chosen,
+        data: &Data,
+        valid: Option<&Data>,
+        stage: &str,
+        with_draw: bool,
+        warm: Option<&Fitted>,
+    ) -> Result<(Fitted, Option<Fitted>, usize, Option<usize>), TrainError> {
         let (x, won, draw) = (&data.x, &data.won, &data.draw);
         let t0 = Instant::now();
         let progress = StageProgress {
@@ -296,10 +331,18 @@ impl Ctx<'_> {
         };
         let mut rounds = None;
         let win = match chosen {
-            Chosen::Logistic(p) => Fitted::Logistic(p.fit(x, won, None, &progress, self.cancel)?),
+            Chosen::Logistic(p) => {
+                let start = match warm {
+                    Some(Fitted::Logistic(l)) => Some(l),
+                    _ => None,
+                };
+                Fitted::Logistic(p.fit_from(x, won, None, start, &progress, self.cancel)?)
+            }
             Chosen::Boosted(p) => {
                 let v = valid.map(|v| (&v.x, v.won.as_slice()));
-                let m = p.fit(x, won, None, v, &progress, self.cancel)?;
+                progress.report("binning", 0.0);
+                let binned = data.binned(&self.bins)?;
+                let m = p.fit_binned(binned, won, None, v, &progress, self.cancel)?;
                 rounds = Some(m.best_rounds);
                 Fitted::Boosted(m)
             }
@@ -311,9 +354,20 @@ impl Ctx<'_> {
                 Chosen::Logistic(p) => {
                     Fitted::Logistic(p.fit(x, draw, None, &progress, self.cancel)?)
                 }
-                Chosen::Boosted(p) => {
-                    Fitted::Boosted(p.fit(x, draw, None, None, &progress, self.cancel)?)
-                }
+                Chosen::Boosted(p) => Fitted::Boosted(
+                    BoostedParams {
+                        max_rounds: self.draw_rounds.unwrap_or(p.max_rounds),
+                        ..p.clone()
+                    }
+                    .fit_binned(
+                        data.binned(&self.bins)?,
+                        draw,
+                        None,
+                        None,
+                        &progress,
+                        self.cancel,
+                    )?,
+                ),
             })
         } else {
             None
@@ -445,6 +499,11 @@ pub fn train(
         sets,
         spec,
         sample,
+        bins: BoostedParams {
+            seed: options.seed,
+            ..options.boosted.clone()
+        },
+        draw_rounds: None,
         cancel,
         progress,
         timings: Timings::default(),
@@ -479,11 +538,13 @@ pub fn train(
         }
     }
     if wants_logistic {
+        // A path from strong to weak penalties: each fit starts from the previous solution,
+        // and the path stops once the validation loss rises (the weak end is the slowest to
+        // fit and rarely helps on turn tables, whose count columns are strongly correlated).
         let grid: &[f64] = if small {
-            &[0.03, 0.1, 0.3, 1.0, 3.0]
+            &[3.0, 1.0, 0.3, 0.1, 0.03]
         } else {
-            // Plenty of sessions: the penalty matters little; two ends keep tuning quick.
-            &[1e-4, 1e-2]
+            &[1.0, 0.1, 1e-2, 1e-3, 1e-4]
         };
         for &l2 in grid {
             candidates.push(Chosen::Logistic(LogisticParams {
@@ -521,14 +582,31 @@ pub fn train(
         }
         fold_data.push((ctx.data(&fit_on, true)?, ctx.data(&valid, false)?));
     }
+    // The last logistic fit of each fold, to start the next penalty from.
+    let mut warm: Vec<Option<Fitted>> = vec![None; fold_data.len()];
+    // Validation loss of the previous penalty on the logistic path, and whether it rose.
+    let mut path_last: Option<f64> = None;
+    let mut path_stopped = false;
     for (ci, cand) in candidates.into_iter().enumerate() {
+        if path_stopped && matches!(cand, Chosen::Logistic(_)) {
+            continue;
+        }
         let mut loss = 0.0;
         let mut rounds_sum = 0usize;
         let mut counted = 0usize;
-        for (fit_data, valid_data) in &fold_data {
-            let (win, _, _, rounds) =
-                ctx.fit_data(&cand, fit_data, Some(valid_data), "tuning", false)?;
+        for (fi, (fit_data, valid_data)) in fold_data.iter().enumerate() {
+            let (win, _, _, rounds) = ctx.fit_data_from(
+                &cand,
+                fit_data,
+                Some(valid_data),
+                "tuning",
+                false,
+                warm[fi].as_ref(),
+            )?;
             loss += ctx.loss_on(&win, valid_data);
+            if matches!(win, Fitted::Logistic(_)) {
+                warm[fi] = Some(win);
+            }
             rounds_sum += rounds.unwrap_or(0);
             counted += 1;
         }
@@ -537,6 +615,10 @@ pub fn train(
             continue;
         }
         let loss = loss / counted as f64;
+        if matches!(cand, Chosen::Logistic(_)) {
+            path_stopped = path_last.is_some_and(|last| loss > last);
+            path_last = Some(loss);
+        }
         let rounds = match &cand {
             Chosen::Boosted(_) => Some((rounds_sum / counted).max(1)),
             Chosen::Logistic(_) => None,
@@ -558,18 +640,44 @@ pub fn train(
             best = Some((loss, tuned));
         }
     }
-    // Free the tuning tables before the final fit builds its own.
-    drop(fold_data);
     let Some((best_loss, chosen)) = best else {
         return Err(TrainError::TooFew {
             found: finished.len(),
             needed: MIN_FINISHED_SESSIONS,
         });
     };
+    // Boosted draw models get their own rounds by early stopping on the same validation fold:
+    // draws are rare, so they usually need far fewer trees than wins (and more would overfit).
+    if let (Chosen::Boosted(p), Some((fit_data, valid_data))) = (&chosen, fold_data.first()) {
+        let has = |d: &[f32]| d.iter().any(|&v| v > 0.5);
+        if has(&fit_data.draw) && has(&valid_data.draw) {
+            let t0 = Instant::now();
+            let params = BoostedParams {
+                max_rounds: options.boosted.max_rounds,
+                ..p.clone()
+            };
+            let stage = StageProgress {
+                inner: progress,
+                stage: "tuning",
+            };
+            let m = params.fit_binned(
+                fit_data.binned(&ctx.bins)?,
+                &fit_data.draw,
+                None,
+                Some((&valid_data.x, &valid_data.draw)),
+                &stage,
+                cancel,
+            )?;
+            ctx.timings.fit += t0.elapsed().as_secs_f64();
+            ctx.draw_rounds = Some(m.best_rounds.max(1));
+        }
+    }
+    // Free the tuning tables before the final fit builds its own.
+    drop(fold_data);
     for t in &mut tuning {
         t.chosen = t.candidate == chosen.describe() && t.valid_log_loss == best_loss;
     }
-    let choice_text = format!(
+    let mut choice_text = format!(
         "{} — lowest validation log loss ({best_loss:.4}) among {} candidate(s) on {}",
         chosen.describe(),
         tuning.len(),
@@ -579,6 +687,11 @@ pub fn train(
             "a session-grouped validation fold of the training part".to_string()
         }
     );
+    if let Some(r) = ctx.draw_rounds {
+        choice_text.push_str(&format!(
+            "; draw model: {r} rounds, by early stopping on the same fold"
+        ));
+    }
 
     // The final model, on every training session.
     progress.report("final fit", 0.0);

@@ -36,6 +36,12 @@ impl BinEdges {
     /// The bin of a raw value (NaN → 0).
     #[inline]
     pub fn bin_of(&self, v: f32) -> u8 {
+        // Most values are the smallest (a zero count): answer those without a search.
+        match self.upper.first() {
+            Some(&first) if v <= first => return 0,
+            None => return 0,
+            _ => {}
+        }
         // partition_point finds the first bound ≥ v; NaN compares false and lands in bin 0.
         self.upper.partition_point(|&u| u < v) as u8
     }
@@ -100,17 +106,29 @@ pub fn find_edges(x: &Matrix, max_bins: usize, seed: u64) -> Vec<BinEdges> {
         r.sort_unstable();
         r
     };
-    // Transpose the sample once so each feature's values are contiguous.
-    let mut columns: Vec<Vec<f32>> = (0..p).map(|_| Vec::with_capacity(rows.len())).collect();
-    for &i in &rows {
-        for (j, &v) in x.row(i).iter().enumerate() {
-            columns[j].push(v);
-        }
-    }
-    columns
+    // Each block of features gathers its sampled values contiguously, then finds its edges.
+    const FEATURES_PER_TASK: usize = 16;
+    let blocks: Vec<Vec<BinEdges>> = (0..p.div_ceil(FEATURES_PER_TASK))
         .into_par_iter()
-        .map(|values| edges_from_sample(values, max_bins))
-        .collect()
+        .map(|b| {
+            let cols = b * FEATURES_PER_TASK..((b + 1) * FEATURES_PER_TASK).min(p);
+            let mut columns: Vec<Vec<f32>> = cols
+                .clone()
+                .map(|_| Vec::with_capacity(rows.len()))
+                .collect();
+            for &i in &rows {
+                let row = &x.row(i)[cols.clone()];
+                for (c, &v) in columns.iter_mut().zip(row) {
+                    c.push(v);
+                }
+            }
+            columns
+                .into_iter()
+                .map(|values| edges_from_sample(values, max_bins))
+                .collect()
+        })
+        .collect();
+    blocks.into_iter().flatten().collect()
 }
 
 /// The entries outside bin 0 of a block of consecutive features, stored row by row: row `i`'s

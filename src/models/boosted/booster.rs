@@ -98,6 +98,17 @@ impl BoostedParams {
     ) -> Result<Boosted, FitError> {
         self.check()?;
         check_labels_and_weights(x.n_rows(), y, weights)?;
+        cancel.check()?;
+        progress.report("binning", 0.0);
+        let data = self.bin(x)?;
+        self.fit_binned(&data, y, weights, valid, progress, cancel)
+    }
+
+    /// Bins `x` with this model's bin settings (`max_bins`, `seed`), for [`Self::fit_binned`].
+    /// One binned copy serves every fit with the same bin settings on the same rows (a win
+    /// model and its draw model, or tuning candidates that differ only in tree size).
+    pub fn bin(&self, x: &Matrix) -> Result<BinnedData, FitError> {
+        self.check()?;
         if x.n_cols() == 0 {
             return Err(FitError::Empty("the matrix has no columns"));
         }
@@ -109,11 +120,30 @@ impl BoostedParams {
                 max: max_rows,
             });
         }
+        Ok(BinnedData::new(x, find_edges(x, self.max_bins, self.seed)))
+    }
+
+    /// [`Self::fit`] on rows binned beforehand by [`Self::bin`] (with the same `max_bins` and
+    /// `seed`; the result is then identical to `fit` on the raw rows).
+    pub fn fit_binned(
+        &self,
+        data: &BinnedData,
+        y: &[f32],
+        weights: Option<&[f32]>,
+        valid: Option<(&Matrix, &[f32])>,
+        progress: &dyn Progress,
+        cancel: &Cancel,
+    ) -> Result<Boosted, FitError> {
+        self.check()?;
+        check_labels_and_weights(data.n_rows(), y, weights)?;
+        if data.n_features() == 0 {
+            return Err(FitError::Empty("the matrix has no columns"));
+        }
         if let Some((vx, vy)) = valid {
-            if vx.n_cols() != x.n_cols() {
+            if vx.n_cols() != data.n_features() {
                 return Err(FitError::ColumnMismatch {
                     what: "validation matrix",
-                    expected: x.n_cols(),
+                    expected: data.n_features(),
                     actual: vx.n_cols(),
                 });
             }
@@ -129,10 +159,8 @@ impl BoostedParams {
             })?;
         }
         cancel.check()?;
-        progress.report("binning", 0.0);
-        let data = BinnedData::new(x, find_edges(x, self.max_bins, self.seed));
-        let n = x.n_rows();
-        let p = x.n_cols();
+        let n = data.n_rows();
+        let p = data.n_features();
         let base_score = log_odds_of_mean(y, weights);
         let mut scores = vec![base_score; n];
         let mut valid_scores = valid.map(|(vx, _)| vec![base_score; vx.n_rows()]);
@@ -187,14 +215,14 @@ impl BoostedParams {
                     }
                 });
             let tree = learner.grow(&GrowInput {
-                data: &data,
+                data,
                 gradients: &gradients,
                 rows: in_bag.as_deref(),
                 active: &active,
                 active_list: &active_list,
                 params: self,
             });
-            Self::update_scores(&mut scores, &tree, &learner, &data);
+            Self::update_scores(&mut scores, &tree, &learner, data);
             if let (Some(vs), Some((vx, _))) = (valid_scores.as_mut(), valid) {
                 vs.par_chunks_mut(CHUNK_ROWS)
                     .enumerate()

@@ -397,3 +397,34 @@ fn invalid_params_and_bad_data_are_rejected() {
     let r = ok.fit(&empty, &[], None, None, &NoProgress, &Cancel::new());
     assert!(matches!(r, Err(FitError::Empty(_))));
 }
+
+#[test]
+fn fitting_on_rows_binned_beforehand_gives_the_identical_model() {
+    // One binned copy is shared by several fits in training; it must change nothing.
+    let (x, y) = esl_10_2(3000, 8);
+    let params = BoostedParams {
+        max_rounds: 30,
+        max_leaves: 8,
+        row_subsample: 0.8,
+        feature_subsample: 0.7,
+        seed: 4,
+        ..BoostedParams::default()
+    };
+    let direct = fit(&params, &x, &y);
+    let binned = params.bin(&x).unwrap();
+    let shared = params
+        .fit_binned(&binned, &y, None, None, &NoProgress, &Cancel::new())
+        .unwrap();
+    let flipped: Vec<f32> = y.iter().map(|v| 1.0 - v).collect();
+    let second = params
+        .fit_binned(&binned, &flipped, None, None, &NoProgress, &Cancel::new())
+        .unwrap();
+    assert_eq!(
+        serde_json::to_string(&direct).unwrap(),
+        serde_json::to_string(&shared).unwrap()
+    );
+    // Reusing the bins for other labels works too (a draw model beside a win model).
+    assert_eq!(second.trees.len(), 30);
+    let wrong = params.fit_binned(&binned, &y[..10], None, None, &NoProgress, &Cancel::new());
+    assert!(wrong.is_err());
+}

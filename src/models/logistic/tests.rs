@@ -326,3 +326,44 @@ fn predict_on_wrong_width_gives_nan_not_panic() {
         Err(FitError::ColumnMismatch { .. })
     ));
 }
+
+#[test]
+fn a_warm_start_reaches_the_cold_start_minimum() {
+    // The penalised objective is strictly convex, so the minimum does not depend on where the
+    // search starts (convex optimisation, textbook fact): starting from the fit with a
+    // neighbouring penalty must land on the cold-start coefficients, in no more iterations.
+    let (x, y) = breast_cancer();
+    let params = |l2: f64| LogisticParams {
+        l2,
+        ..LogisticParams::default()
+    };
+    let strong = params(0.1)
+        .fit(&x, &y, None, &NoProgress, &Cancel::new())
+        .unwrap();
+    let cold = params(0.01)
+        .fit(&x, &y, None, &NoProgress, &Cancel::new())
+        .unwrap();
+    let warm = params(0.01)
+        .fit_from(&x, &y, None, Some(&strong), &NoProgress, &Cancel::new())
+        .unwrap();
+    assert!(cold.converged && warm.converged);
+    for (a, b) in cold.coefficients.iter().zip(&warm.coefficients) {
+        assert!((a - b).abs() < 1e-4, "{a} vs {b}");
+    }
+    assert!((cold.intercept - warm.intercept).abs() < 1e-4);
+    assert!(
+        warm.iterations <= cold.iterations,
+        "warm {} cold {}",
+        warm.iterations,
+        cold.iterations
+    );
+    // A start fitted on other rows (another standardisation) is ignored: same as cold.
+    let (cx, cy) = challenger();
+    let other = params(0.1)
+        .fit(&cx, &cy, None, &NoProgress, &Cancel::new())
+        .unwrap();
+    let ignored = params(0.01)
+        .fit_from(&x, &y, None, Some(&other), &NoProgress, &Cancel::new())
+        .unwrap();
+    assert_eq!(ignored, cold);
+}
