@@ -13,6 +13,7 @@ use crate::models::{BoostedParams, FitError, LogisticParams, Matrix};
 use crate::progress::{Cancel, Cancelled, Progress};
 use crate::sessions::SessionSet;
 use serde::Serialize;
+use rayon::prelude::*;
 use std::time::Instant;
 
 /// Which model to fit.
@@ -191,7 +192,7 @@ struct Data {
     /// The rows binned for boosted trees, made on first use and shared by every boosted fit
     /// on these rows (win and draw models, tuning candidates): every candidate of a run has
     /// the run's bin settings (`Ctx::bins`).
-    binned: std::cell::OnceCell<BinnedData>,
+    binned: std::sync::OnceLock<BinnedData>,
 }
 
 impl Data {
@@ -382,6 +383,31 @@ impl Ctx<'_> {
         let c = normalise(&data.rows, &raw, None);
         row_log_loss(&c.win, &data.won)
     }
+}
+
+/// Most turn rows, summed over the learning curve's smaller fits, for which those fits run
+/// side by side.
+const PARALLEL_CURVE_ROWS: usize = 400_000;
+
+/// A win model alone on prepared data, without validation (the learning curve's fits).
+fn fit_win(
+    chosen: &Chosen,
+    data: &Data,
+    bins: &BoostedParams,
+    cancel: &Cancel,
+) -> Result<Fitted, TrainError> {
+    let quiet = crate::progress::NoProgress;
+    Ok(match chosen {
+        Chosen::Logistic(p) => Fitted::Logistic(p.fit(&data.x, &data.won, None, &quiet, cancel)?),
+        Chosen::Boosted(p) => Fitted::Boosted(p.fit_binned(
+            data.binned(bins)?,
+            &data.won,
+            None,
+            None,
+            &quiet,
+            cancel,
+        )?),
+    })
 }
 
 /// Passes engine progress on with a stage name of our own.
@@ -797,18 +823,52 @@ pub fn train(
             .collect();
         sizes.dedup();
         let test_data = ctx.data(&test_sessions, false)?;
-        for (i, &m) in sizes.iter().enumerate() {
-            progress.report("learning curve", i as f64 / sizes.len() as f64);
-            let subset: Vec<(usize, usize)> = ordered[..m].iter().map(|x| x.1).collect();
-            let loss = if m == n {
+        // The smaller fits use the machine's cores poorly one at a time; when their tables
+        // are small, fit them side by side (each fit is deterministic, so the curve is the
+        // same at any thread count). Large tables are fitted one at a time to bound memory.
+        let smaller: Vec<usize> = sizes.iter().copied().filter(|&m| m < n).collect();
+        let subset_of =
+            |m: usize| -> Vec<(usize, usize)> { ordered[..m].iter().map(|x| x.1).collect() };
+        let sub_rows: usize = smaller.iter().map(|&m| trained_rows * m / n.max(1)).sum();
+        let mut losses: Vec<f64> = Vec::with_capacity(smaller.len());
+        if sub_rows <= PARALLEL_CURVE_ROWS {
+            let mut datas = Vec::with_capacity(smaller.len());
+            for &m in &smaller {
+                datas.push(ctx.data(&subset_of(m), true)?);
+            }
+            let t0 = Instant::now();
+            let done = std::sync::atomic::AtomicUsize::new(0);
+            let fits: Vec<Result<Fitted, TrainError>> = datas
+                .par_iter()
+                .map(|d| {
+                    let fitted = fit_win(&chosen, d, &ctx.bins, cancel);
+                    let k = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
+                    progress.report("learning curve", k as f64 / sizes.len() as f64);
+                    fitted
+                })
+                .collect();
+            ctx.timings.fit += t0.elapsed().as_secs_f64();
+            for f in fits {
+                losses.push(ctx.loss_on(&f?, &test_data));
+            }
+        } else {
+            for (i, &m) in smaller.iter().enumerate() {
+                progress.report("learning curve", i as f64 / sizes.len() as f64);
+                let (win, _, _, _) =
+                    ctx.fit(&chosen, &subset_of(m), None, "learning curve", false)?;
+                losses.push(ctx.loss_on(&win, &test_data));
+            }
+        }
+        let mut losses = losses.into_iter();
+        for &m in &sizes {
+            let log_loss = if m == n {
                 ctx.loss_on(&model.win, &test_data)
             } else {
-                let (win, _, _, _) = ctx.fit(&chosen, &subset, None, "learning curve", false)?;
-                ctx.loss_on(&win, &test_data)
+                losses.next().unwrap_or(f64::NAN)
             };
             learning_curve.push(LearningPoint {
                 sessions: m,
-                log_loss: loss,
+                log_loss,
             });
         }
         progress.report("learning curve", 1.0);
