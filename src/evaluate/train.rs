@@ -12,8 +12,8 @@ use crate::models::win_model::{Fitted, ModelSummary, WinModel, normalise};
 use crate::models::{BoostedParams, FitError, LogisticParams, Matrix};
 use crate::progress::{Cancel, Cancelled, Progress};
 use crate::sessions::SessionSet;
-use serde::Serialize;
 use rayon::prelude::*;
+use serde::Serialize;
 use std::time::Instant;
 
 /// Which model to fit.

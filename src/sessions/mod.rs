@@ -136,7 +136,8 @@ pub struct SessionSet {
     pub labels: Vec<String>,
     /// Numeric state columns; [`Event::state`] indexes this.
     pub state_columns: Vec<String>,
-    /// Loaded sessions (finished and in progress), in order of first appearance.
+    /// Loaded sessions (finished and in progress), sorted by id in natural order (`g2` before
+    /// `g10`; see [`text::natural_cmp`]), so that no result depends on file order.
     pub sessions: Vec<Session>,
     /// Sessions that were set aside, with their reasons.
     pub set_aside: Vec<SetAside>,

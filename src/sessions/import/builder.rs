@@ -605,6 +605,9 @@ impl SetBuilder {
             });
         }
 
+        // Sessions in identifier order (duplicates keep file order): no result may depend on
+        // the order sessions appear in the files.
+        sessions.sort_by(|a, b| crate::sessions::text::natural_cmp(&a.id, &b.id));
         let mut set = SessionSet {
             name,
             root,
