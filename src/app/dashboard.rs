@@ -990,7 +990,7 @@ impl Dashboard {
             ui.horizontal(|ui| {
                 let text = RichText::new(&n.text);
                 if n.error {
-                    ui.label(text.color(palette::warn()));
+                    ui.label(text.color(palette::warn(ui.visuals().dark_mode)));
                 } else {
                     ui.label(text);
                 }
@@ -1078,7 +1078,11 @@ impl Dashboard {
             if let Fit::Failed(e) = &b.fit
                 && e != "cancelled"
             {
-                ui.label(RichText::new(e).color(palette::warn()).small());
+                ui.label(
+                    RichText::new(e)
+                        .color(palette::warn(ui.visuals().dark_mode))
+                        .small(),
+                );
             }
             if b.origin.path().is_some() && b.set.is_usable() {
                 let mut on = self.follows.iter().any(|f| f.bundle == b.id);
@@ -1134,7 +1138,7 @@ impl Dashboard {
                     let text = RichText::new(format!("{} — {}", p.severity.word(), p)).small();
                     match p.severity {
                         Severity::Unusable | Severity::SetAside => {
-                            ui.label(text.color(palette::warn()))
+                            ui.label(text.color(palette::warn(ui.visuals().dark_mode)))
                         }
                         Severity::Warning => ui.label(text),
                     };
@@ -1175,7 +1179,7 @@ impl Dashboard {
             ui.label(
                 RichText::new(format!("{} cannot be used.", b.name()))
                     .strong()
-                    .color(palette::warn()),
+                    .color(palette::warn(ui.visuals().dark_mode)),
             );
             ui.label("Its problems are listed on the left (file:line: message). Fix the files and open the set again.");
             return;
@@ -1278,7 +1282,7 @@ impl Dashboard {
 
     fn waiting_for_training(ui: &mut Ui, b: &Bundle) {
         match &b.fit {
-            Fit::Failed(e) => ui.label(RichText::new(format!("Training stopped: {e}")).color(palette::warn())),
+            Fit::Failed(e) => ui.label(RichText::new(format!("Training stopped: {e}")).color(palette::warn(ui.visuals().dark_mode))),
             _ => ui.label("Training is running in the background (see the progress bar below); this view fills in when it finishes."),
         };
     }
@@ -1433,7 +1437,7 @@ impl Dashboard {
             ui.label(format!("tellturn {}", env!("CARGO_PKG_VERSION")));
             ui.label("tellturn learns, from recorded playtest or training-exercise sessions, how each player's chance of winning moved turn by turn. From that it shows when each game was decided, what swung it, whether the game is fair between seats, and whether a rule variant changed that.");
             ui.add_space(6.0);
-            ui.label(RichText::new("Caution").strong().color(palette::warn()));
+            ui.label(RichText::new("Caution").strong().color(palette::warn(ui.visuals().dark_mode)));
             ui.label("Results describe the recorded sessions only. They are estimates from a model, not facts about real-world events, and must not be used to make operational decisions.");
             ui.add_space(6.0);
             ui.label("Words used here:");

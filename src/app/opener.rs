@@ -69,7 +69,7 @@ impl Opener {
             .default_width(520.0)
             .show(ctx, |ui| {
                 if let Some(n) = &self.note {
-                    ui.label(RichText::new(n).color(super::palette::warn()));
+                    ui.label(RichText::new(n).color(super::palette::warn(ui.visuals().dark_mode)));
                     ui.add_space(4.0);
                 }
                 ui.label("A session set is a folder holding events.csv (or events.jsonl, or sessions/<id>.csv) and outcomes.csv. You can also name the events file itself.");

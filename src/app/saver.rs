@@ -152,7 +152,7 @@ impl Saver {
         let mut open = true;
         let mut chosen = None;
         egui::Window::new(format!("Save {what}")).open(&mut open).collapsible(false).show(ctx, |ui| {
-            ui.label(RichText::new("No file dialog is available here; type where to save.").color(super::palette::warn()));
+            ui.label(RichText::new("No file dialog is available here; type where to save.").color(super::palette::warn(ui.visuals().dark_mode)));
             ui.horizontal(|ui| {
                 let l = ui.label("Save to:");
                 ui.add(egui::TextEdit::singleline(&mut self.path).desired_width(380.0)).labelled_by(l.id);

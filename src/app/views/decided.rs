@@ -175,7 +175,7 @@ impl DecidedChart {
                     let colour = if name == "draw" {
                         palette::neutral(dark)
                     } else {
-                        palette::series(gi)
+                        palette::series(dark, gi)
                     };
                     let bars: Vec<Bar> = ranks
                         .iter()
@@ -261,7 +261,7 @@ impl DecidedChart {
                             .name(format!("{}–{} %", i * 10, i * 10 + 10))
                     })
                     .collect();
-                p.bar_chart(BarChart::new("sessions", bars).color(palette::series(0)));
+                p.bar_chart(BarChart::new("sessions", bars).color(palette::series(dark, 0)));
             });
         (Some(rect), open)
     }

@@ -54,8 +54,8 @@ fn rate_chart(
                             r.wins,
                             r.sessions
                         ))
-                        .fill(palette::band(palette::series(i)))
-                        .stroke(egui::Stroke::new(1.5, palette::series(i)))
+                        .fill(palette::band(palette::series(dark, i)))
+                        .stroke(egui::Stroke::new(1.5, palette::series(dark, i)))
                 })
                 .collect();
             p.bar_chart(
@@ -108,6 +108,7 @@ fn rate_chart(
 impl Fairness {
     /// Draw the balance of a set; returns the seat chart's rectangle.
     pub fn ui(&mut self, ui: &mut Ui, b: &Balance) -> Option<egui::Rect> {
+        let dark = ui.visuals().dark_mode;
         ui.label(
             RichText::new(format!(
                 "Is it fair? {} finished sessions, {} draws ({})",
@@ -166,7 +167,7 @@ impl Fairness {
                     let bars: Vec<Bar> = routes
                         .iter()
                         .enumerate()
-                        .map(|(i, r)| Bar::new(i as f64, r.share).width(0.6).name(format!("{}: {} sessions ({})", r.route, r.count, pct(r.share))).fill(palette::series(i)))
+                        .map(|(i, r)| Bar::new(i as f64, r.share).width(0.6).name(format!("{}: {} sessions ({})", r.route, r.count, pct(r.share))).fill(palette::series(dark, i)))
                         .collect();
                     p.bar_chart(BarChart::new("routes", bars).element_formatter(Box::new(|b, _| b.name.clone())));
                 });
@@ -190,7 +191,7 @@ impl Fairness {
                             Bar::new(bin.lo as f64 + w / 2.0 - 0.5, bin.count as f64).width(w * 0.9).name(format!("{}–{} turns: {}", bin.lo, bin.hi, bin.count))
                         })
                         .collect();
-                    p.bar_chart(BarChart::new("sessions", bars).color(palette::series(0)).element_formatter(Box::new(|b, _| b.name.clone())));
+                    p.bar_chart(BarChart::new("sessions", bars).color(palette::series(dark, 0)).element_formatter(Box::new(|b, _| b.name.clone())));
                 });
         });
         rect

@@ -30,7 +30,9 @@ impl ModelCheck {
         ui.label(RichText::new(format!("Model: {}", t.model.summary.choice)).strong())
             .on_hover_text("Which kind of model was fitted and why: the candidates were compared on sessions left out of fitting, and the one with the lowest log loss won.");
         for note in &t.notes {
-            ui.label(RichText::new(format!("Note: {note}")).color(palette::warn()));
+            ui.label(
+                RichText::new(format!("Note: {note}")).color(palette::warn(ui.visuals().dark_mode)),
+            );
         }
         let Some(q) = learned.out_of_fold.as_ref() else {
             ui.label("Too few finished sessions to check the model on sessions it never saw.");
@@ -74,8 +76,8 @@ impl ModelCheck {
                     let xs: Vec<f64> = curve.iter().map(|c| c.x as f64).collect();
                     let lo: Vec<f64> = curve.iter().map(|c| c.accuracy_interval.lo).collect();
                     let hi: Vec<f64> = curve.iter().map(|c| c.accuracy_interval.hi).collect();
-                    p.add(FilledArea::new("95 % interval", &xs, &lo, &hi).fill_color(palette::band(palette::series(0))));
-                    p.line(Line::new("accuracy", PlotPoints::from_iter(curve.iter().map(|c| [c.x as f64, c.accuracy]))).color(palette::series(0)).width(2.0));
+                    p.add(FilledArea::new("95 % interval", &xs, &lo, &hi).fill_color(palette::band(palette::series(dark, 0))));
+                    p.line(Line::new("accuracy", PlotPoints::from_iter(curve.iter().map(|c| [c.x as f64, c.accuracy]))).color(palette::series(dark, 0)).width(2.0));
                     p.hline(HLine::new("coin toss (50 %)", 0.5).color(palette::neutral(dark)));
                 });
             rect = Some(r.response.rect);
@@ -92,8 +94,8 @@ impl ModelCheck {
                     let xs: Vec<f64> = curve.iter().map(|c| c.x as f64).collect();
                     let lo: Vec<f64> = curve.iter().map(|c| (c.log_loss - 1.96 * c.log_loss_se).max(0.0)).collect();
                     let hi: Vec<f64> = curve.iter().map(|c| c.log_loss + 1.96 * c.log_loss_se).collect();
-                    p.add(FilledArea::new("±1.96 SE", &xs, &lo, &hi).fill_color(palette::band(palette::series(1))));
-                    p.line(Line::new("log loss", PlotPoints::from_iter(curve.iter().map(|c| [c.x as f64, c.log_loss]))).color(palette::series(1)).width(2.0));
+                    p.add(FilledArea::new("±1.96 SE", &xs, &lo, &hi).fill_color(palette::band(palette::series(dark, 1))));
+                    p.line(Line::new("log loss", PlotPoints::from_iter(curve.iter().map(|c| [c.x as f64, c.log_loss]))).color(palette::series(dark, 1)).width(2.0));
                     if q.seat_only_log_loss.is_finite() {
                         p.hline(HLine::new("seat alone", q.seat_only_log_loss).color(palette::neutral(dark)));
                     }
@@ -116,10 +118,10 @@ impl ModelCheck {
                     for b in &q.reliability.bins {
                         if let (Some(x), Some(y)) = (b.mean_predicted, b.observed_rate) {
                             pts.push([x, y]);
-                            p.line(Line::new("95 % interval", PlotPoints::from(vec![[x, b.interval.lo], [x, b.interval.hi]])).color(palette::series(2)).width(1.5));
+                            p.line(Line::new("95 % interval", PlotPoints::from(vec![[x, b.interval.lo], [x, b.interval.hi]])).color(palette::series(dark, 2)).width(1.5));
                         }
                     }
-                    p.points(Points::new("observed", PlotPoints::from(pts)).shape(MarkerShape::Circle).radius(4.0).filled(true).color(palette::series(2)));
+                    p.points(Points::new("observed", PlotPoints::from(pts)).shape(MarkerShape::Circle).radius(4.0).filled(true).color(palette::series(dark, 2)));
                 });
             cols[1].label(RichText::new("Learning curve: would more sessions help?").strong())
                 .on_hover_text("Held-out log loss of models fitted on growing numbers of training sessions. Still falling at the right: more recorded sessions would sharpen the chances. Flat: more of the same would add little.");
@@ -130,8 +132,8 @@ impl ModelCheck {
                 .allow_scroll(false)
                 .show(&mut cols[1], |p| {
                     let pts: Vec<[f64; 2]> = t.learning_curve.iter().map(|l| [l.sessions as f64, l.log_loss]).collect();
-                    p.line(Line::new("held-out log loss", PlotPoints::from(pts.clone())).color(palette::series(3)).width(2.0));
-                    p.points(Points::new("measured", PlotPoints::from(pts)).radius(3.5).filled(true).color(palette::series(3)));
+                    p.line(Line::new("held-out log loss", PlotPoints::from(pts.clone())).color(palette::series(dark, 3)).width(2.0));
+                    p.points(Points::new("measured", PlotPoints::from(pts)).radius(3.5).filled(true).color(palette::series(dark, 3)));
                 });
         });
         ui.add_space(4.0);

@@ -128,7 +128,7 @@ impl Replay {
                     ui.label(
                         RichText::new("· in progress")
                             .strong()
-                            .color(palette::warn()),
+                            .color(palette::warn(dark)),
                     );
                 }
             }
@@ -186,6 +186,7 @@ impl Replay {
         threshold: f64,
     ) {
         let last = trace.len() - 1;
+        let dark = ui.visuals().dark_mode;
         if !session.is_finished() {
             ui.horizontal_wrapped(|ui| {
                 ui.label(
@@ -199,7 +200,7 @@ impl Replay {
                             session.actors[a],
                             pct(trace.chance(last, a))
                         ))
-                        .color(palette::series(a))
+                        .color(palette::series(dark, a))
                         .size(18.0),
                     );
                 }
@@ -293,7 +294,7 @@ impl Replay {
                             format!("turn in focus ({})", trace.turns[i]),
                             trace.turns[i] as f64,
                         )
-                        .color(palette::focus())
+                        .color(palette::focus(dark))
                         .width(1.5)
                         .style(egui_plot::LineStyle::Dotted { spacing: 4.0 }),
                     );
@@ -305,7 +306,7 @@ impl Replay {
                     );
                     p.line(
                         Line::new(session.actors[a].clone(), PlotPoints::from(pts))
-                            .color(palette::series(a))
+                            .color(palette::series(dark, a))
                             .style(palette::dash(a))
                             .width(2.0),
                     );
@@ -340,7 +341,7 @@ impl Replay {
                 for a in 0..trace.actors {
                     let s = trace.swing(i, a);
                     ui.colored_label(
-                        palette::series(a),
+                        palette::series(dark, a),
                         format!(
                             "{} {} ({:+.0} points)",
                             session.actors[a],
@@ -416,6 +417,7 @@ impl Replay {
         trace: Option<&Trace>,
         set: &SessionSet,
     ) {
+        let dark = ui.visuals().dark_mode;
         ui.label(RichText::new("Event log").strong()).on_hover_text(
             "Every logged action of this session. Click a row to mark its turn on the chart.",
         );
@@ -477,7 +479,7 @@ impl Replay {
                     e.detail.to_string(),
                 ];
                 let selected = focus_turn == Some(e.turn);
-                let colour = e.actor.map(|a| palette::series(a as usize));
+                let colour = e.actor.map(|a| palette::series(dark, a as usize));
                 let label = format!("turn {} {} {} {}", cells[0], cells[1], cells[2], cells[3]);
                 let resp =
                     table::row_coloured(ui, &columns, &cells, EVENT_ROW, selected, &label, colour);

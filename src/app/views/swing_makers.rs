@@ -122,7 +122,7 @@ impl SwingMakers {
                         "Flagged turns (at least {:.1}× the swing of the turns around them): {}",
                         l.params.factor,
                         l.quirk_turns.iter().map(|t| t.to_string()).collect::<Vec<_>>().join(", ")
-                    )).color(palette::warn()));
+                    )).color(palette::warn(dark)));
                 }
                 let resp = Plot::new("leverage")
                     .height(200.0)
@@ -141,12 +141,12 @@ impl SwingMakers {
                         };
                         p.bar_chart(
                             BarChart::new("turns", plain.iter().map(bar).collect())
-                                .color(palette::series(0))
+                                .color(palette::series(dark, 0))
                                 .element_formatter(Box::new(|b, _| b.name.clone())),
                         );
                         p.bar_chart(
                             BarChart::new("flagged turns", quirk.iter().map(bar).collect())
-                                .color(palette::series(4))
+                                .color(palette::series(dark, 4))
                                 .element_formatter(Box::new(|b, _| b.name.clone())),
                         );
                         p.hline(
