@@ -4,7 +4,7 @@
 use super::bundled;
 use super::dialogs::{Answer, Ask, Pending};
 use super::follow::Follow;
-use super::jobs::Job;
+use super::jobs::{CANCELLED, Job};
 use super::opener::Opener;
 use super::palette;
 use super::prefs::{ModelPick, Prefs};
@@ -408,7 +408,7 @@ impl Dashboard {
                     Err(e) => {
                         msgs.push((
                             format!("training on {} stopped: {e}", b.name()),
-                            e != "cancelled",
+                            e != CANCELLED,
                         ));
                         b.fit = Fit::Failed(e);
                     }
@@ -1060,7 +1060,7 @@ impl Dashboard {
                         j.stage().name,
                         100.0 * j.stage().fraction
                     ),
-                    Fit::Failed(e) if e == "cancelled" => "training cancelled".into(),
+                    Fit::Failed(e) if e == CANCELLED => "training cancelled".into(),
                     Fit::Failed(_) => "training failed".into(),
                     Fit::Done => "ready".into(),
                     Fit::Idle => String::new(),
@@ -1076,7 +1076,7 @@ impl Dashboard {
             };
             ui.small(status);
             if let Fit::Failed(e) = &b.fit
-                && e != "cancelled"
+                && e != CANCELLED
             {
                 ui.label(
                     RichText::new(e)

@@ -97,7 +97,7 @@ impl Learned {
         )
         .map_err(|e| e.to_string());
         if cancel.is_cancelled() {
-            return Err("cancelled".into());
+            return Err(super::jobs::CANCELLED.into());
         }
         let leverage =
             leverage_by_turn(&traces, &refs, &LeverageParams::default()).map_err(|e| e.to_string());
