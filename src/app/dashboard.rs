@@ -181,6 +181,7 @@ pub struct Dashboard {
     notices: Vec<Notice>,
     about: bool,
     chart_rect: Option<egui::Rect>,
+    shot_next: Option<&'static str>,
     shot: Option<Receiver<Arc<egui::ColorImage>>>,
     shot_rect: Option<(egui::Rect, &'static str)>,
     external: HashMap<u64, (PathBuf, Arc<WinModel>)>,
@@ -227,6 +228,7 @@ impl Dashboard {
             notices: Vec::new(),
             about: false,
             chart_rect: None,
+            shot_next: None,
             shot: None,
             shot_rect: None,
             external: HashMap::new(),
@@ -507,8 +509,7 @@ impl Dashboard {
             self.shot = None;
             if let Some((rect, view)) = self.shot_rect.take() {
                 let ppp = ctx.pixels_per_point();
-                let region = img.region(&rect, Some(ppp));
-                match encode_png(&region) {
+                match crop(&img, rect, ppp).and_then(|region| encode_png(&region)) {
                     Ok(bytes) => {
                         let name =
                             format!("tellturn-{}.png", view.to_lowercase().replace(' ', "-"));
@@ -611,7 +612,29 @@ impl Dashboard {
                 egui::Color32::WHITE,
             );
         }
+        self.take_shot(&ctx);
         self.run_actions(&ctx);
+    }
+
+    /// Ask for the screenshot of a chart export, one frame after it was asked for: by then the
+    /// Export menu is closed and no longer covers the chart.
+    fn take_shot(&mut self, ctx: &egui::Context) {
+        let Some(view) = self.shot_next.take() else {
+            return;
+        };
+        match self.chart_rect {
+            Some(rect) if rect.is_positive() => {
+                let (tx, rx) = channel();
+                let c = ctx.clone();
+                ctx.request_screenshot(move |img| {
+                    let _ = tx.send(img);
+                    c.request_repaint();
+                });
+                self.shot = Some(rx);
+                self.shot_rect = Some((rect, view));
+            }
+            _ => self.notice("this view has no chart to export", true),
+        }
     }
 
     fn run_actions(&mut self, ctx: &egui::Context) {
@@ -653,15 +676,12 @@ impl Dashboard {
                     }
                 }
                 Action::ExportPng => match self.chart_rect {
-                    Some(rect) => {
-                        let (tx, rx) = channel();
-                        let c = ctx.clone();
-                        ctx.request_screenshot(move |img| {
-                            let _ = tx.send(img);
-                            c.request_repaint();
-                        });
-                        self.shot = Some(rx);
-                        self.shot_rect = Some((rect, self.tab.title()));
+                    Some(_) if self.shot.is_some() || self.shot_next.is_some() => {
+                        self.notice("a chart export is already under way", true)
+                    }
+                    Some(_) => {
+                        self.shot_next = Some(self.tab.title());
+                        ctx.request_repaint();
                     }
                     None => self.notice("this view has no chart to export", true),
                 },
@@ -1466,6 +1486,19 @@ impl Dashboard {
             self.tab = Tab::Replay;
         }
     }
+}
+
+/// The part of a screenshot inside `rect` (in points), clipped to the image: the window may
+/// have changed size between the request and the picture.
+fn crop(img: &egui::ColorImage, rect: egui::Rect, ppp: f32) -> Result<egui::ColorImage, String> {
+    let [w, h] = img.size;
+    let px = |v: f32, max: usize| ((v * ppp).round().max(0.0) as usize).min(max);
+    let (x0, x1) = (px(rect.min.x, w), px(rect.max.x, w));
+    let (y0, y1) = (px(rect.min.y, h), px(rect.max.y, h));
+    if x1 <= x0 || y1 <= y0 {
+        return Err("the chart was not on screen when the picture was taken".into());
+    }
+    Ok(img.region_by_pixels([x0, y0], [x1 - x0, y1 - y0]))
 }
 
 /// Encode an image as PNG bytes.

@@ -23,25 +23,27 @@ fn rate_chart(
 ) -> egui::Rect {
     let dark = ui.visuals().dark_mode;
     let names: Vec<String> = rates.iter().map(label).collect();
-    let resp = Plot::new(id)
-        .height(height)
-        .include_y(0.0)
-        .include_y(1.0)
-        .y_axis_label("win rate")
-        .y_axis_formatter(|m, _| format!("{:.0} %", 100.0 * m.value))
-        .x_axis_formatter(move |m, _| {
-            let i = m.value.round();
-            if (m.value - i).abs() < 1e-6 && i >= 0.0 {
-                names.get(i as usize).cloned().unwrap_or_default()
-            } else {
-                String::new()
-            }
-        })
-        .allow_scroll(false)
-        .allow_drag(false)
-        .allow_zoom(false)
-        .legend(Legend::default())
-        .show(ui, |p| {
+    let (_, full) = super::show_plot(
+        ui,
+        Plot::new(id)
+            .height(height)
+            .include_y(0.0)
+            .include_y(1.0)
+            .y_axis_label("win rate")
+            .y_axis_formatter(|m, _| format!("{:.0} %", 100.0 * m.value))
+            .x_axis_formatter(move |m, _| {
+                let i = m.value.round();
+                if (m.value - i).abs() < 1e-6 && i >= 0.0 {
+                    names.get(i as usize).cloned().unwrap_or_default()
+                } else {
+                    String::new()
+                }
+            })
+            .allow_scroll(false)
+            .allow_drag(false)
+            .allow_zoom(false)
+            .legend(Legend::default()),
+        |p| {
             let bars: Vec<Bar> = rates
                 .iter()
                 .enumerate()
@@ -101,8 +103,9 @@ fn rate_chart(
                         .style(egui_plot::LineStyle::Dashed { length: 6.0 }),
                 );
             }
-        });
-    resp.response.rect
+        },
+    );
+    full
 }
 
 impl Fairness {

@@ -63,7 +63,7 @@ impl ModelCheck {
         ui.columns(2, |cols| {
             cols[0].label(RichText::new("How often the favourite went on to win").strong())
                 .on_hover_text("Accuracy: the share of sessions in which the player with the highest win chance at that point went on to win. The band is a 95 % Wilson interval.");
-            let r = Plot::new("model-accuracy")
+            let (_, full) = super::show_plot(&mut cols[0], Plot::new("model-accuracy")
                 .height(h)
                 .include_y(0.0)
                 .include_y(1.0)
@@ -72,7 +72,8 @@ impl ModelCheck {
                 .y_axis_formatter(|m, _| format!("{:.0} %", 100.0 * m.value))
                 .allow_scroll(false)
                 .legend(Legend::default())
-                .show(&mut cols[0], |p| {
+                ,
+|p| {
                     let xs: Vec<f64> = curve.iter().map(|c| c.x as f64).collect();
                     let lo: Vec<f64> = curve.iter().map(|c| c.accuracy_interval.lo).collect();
                     let hi: Vec<f64> = curve.iter().map(|c| c.accuracy_interval.hi).collect();
@@ -80,7 +81,7 @@ impl ModelCheck {
                     p.line(Line::new("accuracy", PlotPoints::from_iter(curve.iter().map(|c| [c.x as f64, c.accuracy]))).color(palette::series(dark, 0)).width(2.0));
                     p.hline(HLine::new("coin toss (50 %)", 0.5).color(palette::neutral(dark)));
                 });
-            rect = Some(r.response.rect);
+            rect = Some(full);
             cols[1].label(RichText::new("Log loss (lower is better)").strong())
                 .on_hover_text("Log loss punishes confident wrong chances hard. The band is ±1.96 standard errors across sessions. The grey line is the loss of chances from the seat alone, before anything happened.");
             Plot::new("model-logloss")

@@ -261,18 +261,20 @@ impl Replay {
     ) -> egui::Rect {
         let first_x = trace.turns.first().map_or(0.0, |&t| t as f64 - 1.0);
         let height = (ui.available_height() - 120.0).clamp(220.0, 520.0);
-        let resp = Plot::new("replay-chart")
-            .height(height)
-            .include_y(0.0)
-            .include_y(1.0)
-            .x_axis_label("turn")
-            .y_axis_label("win chance")
-            .y_axis_formatter(|m, _| format!("{:.0} %", 100.0 * m.value))
-            .legend(Legend::default())
-            .allow_scroll(false)
-            .show_x(false)
-            .show_y(false)
-            .show(ui, |p| {
+        let (resp, full) = super::show_plot(
+            ui,
+            Plot::new("replay-chart")
+                .height(height)
+                .include_y(0.0)
+                .include_y(1.0)
+                .x_axis_label("turn")
+                .y_axis_label("win chance")
+                .y_axis_formatter(|m, _| format!("{:.0} %", 100.0 * m.value))
+                .legend(Legend::default())
+                .allow_scroll(false)
+                .show_x(false)
+                .show_y(false),
+            |p| {
                 p.hline(
                     HLine::new(format!("threshold {}", pct(threshold)), threshold)
                         .color(palette::rule(dark))
@@ -323,7 +325,8 @@ impl Replay {
                         .color(if dark { Color32::WHITE } else { Color32::BLACK }),
                 );
                 p.pointer_coordinate()
-            });
+            },
+        );
         let nearest = |x: f64| {
             (0..trace.len())
                 .min_by(|&a, &b| {
@@ -364,7 +367,7 @@ impl Replay {
                 self.focus_turn(i);
             }
         }
-        resp.response.rect
+        full
     }
 
     fn swing_list(

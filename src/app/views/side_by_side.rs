@@ -111,16 +111,18 @@ impl SideBySide {
             .on_hover_text("Each line climbs as sessions get decided: its height at a turn is the share of that set's finished sessions already decided by then. A line further right means games stay open longer; a lower end means more games were never decided before the end.");
         if let (Some(da), Some(db)) = decisions {
             let h = (ui.available_height() * 0.42).clamp(180.0, 340.0);
-            let resp = Plot::new("compare-decided")
-                .height(h)
-                .include_y(0.0)
-                .include_y(1.0)
-                .x_axis_label("decided turn")
-                .y_axis_label("share of sessions decided")
-                .y_axis_formatter(|m, _| format!("{:.0} %", 100.0 * m.value))
-                .legend(Legend::default())
-                .allow_scroll(false)
-                .show(ui, |p| {
+            let (_, full) = super::show_plot(
+                ui,
+                Plot::new("compare-decided")
+                    .height(h)
+                    .include_y(0.0)
+                    .include_y(1.0)
+                    .x_axis_label("decided turn")
+                    .y_axis_label("share of sessions decided")
+                    .y_axis_formatter(|m, _| format!("{:.0} %", 100.0 * m.value))
+                    .legend(Legend::default())
+                    .allow_scroll(false),
+                |p| {
                     for (i, (name, d)) in [(a, da), (b, db)].into_iter().enumerate() {
                         let pts = cumulative(d);
                         let mut stepped = Vec::with_capacity(pts.len() * 2);
@@ -141,8 +143,9 @@ impl SideBySide {
                             .width(2.5),
                         );
                     }
-                });
-            rect = Some(resp.response.rect);
+                },
+            );
+            rect = Some(full);
         } else {
             ui.label("Waiting for both sets to finish training…");
         }

@@ -124,14 +124,16 @@ impl SwingMakers {
                         l.quirk_turns.iter().map(|t| t.to_string()).collect::<Vec<_>>().join(", ")
                     )).color(palette::warn(dark)));
                 }
-                let resp = Plot::new("leverage")
-                    .height(200.0)
-                    .include_y(0.0)
-                    .x_axis_label("turn")
-                    .y_axis_label("leverage")
-                    .legend(Legend::default())
-                    .allow_scroll(false)
-                    .show(ui, |p| {
+                let (_, full) = super::show_plot(
+                    ui,
+                    Plot::new("leverage")
+                        .height(200.0)
+                        .include_y(0.0)
+                        .x_axis_label("turn")
+                        .y_axis_label("leverage")
+                        .legend(Legend::default())
+                        .allow_scroll(false),
+                    |p| {
                         let (quirk, plain): (Vec<_>, Vec<_>) = l.rows.iter().partition(|r| r.quirk);
                         let bar = |r: &&tellturn::analysis::swings::LeverageRow| {
                             Bar::new(r.turn as f64, r.leverage).width(0.8).name(format!(
@@ -154,8 +156,9 @@ impl SwingMakers {
                                 .color(palette::neutral(dark))
                                 .style(egui_plot::LineStyle::Dashed { length: 6.0 }),
                         );
-                    });
-                rect = Some(resp.response.rect);
+                    },
+                );
+                rect = Some(full);
             }
         }
         ui.add_space(6.0);
