@@ -792,12 +792,13 @@ impl Dashboard {
         );
     }
 
-    fn table_csv(&self) -> Option<(String, String)> {
+    /// The table of the view in front as (file name, CSV text), with the rows as shown.
+    fn table_csv(&mut self) -> Option<(String, String)> {
         let b = self.shelf.get(self.active?)?;
         match self.tab {
             Tab::Roster | Tab::Replay | Tab::Decided => Some((
                 format!("{}-sessions.csv", b.name()),
-                self.roster.csv(&b.set, &b.facts),
+                self.roster.csv(&b.set, &b.facts, b.id, b.generation),
             )),
             Tab::ModelCheck => {
                 let l = b.learned.as_ref()?;
@@ -819,7 +820,7 @@ impl Dashboard {
                 let imp = b.learned.as_ref()?.impact.as_ref().ok()?;
                 Some((
                     format!("{}-event-impact.csv", b.name()),
-                    SwingMakers::csv(imp),
+                    self.swing_makers.csv(imp),
                 ))
             }
             Tab::Compare => {
