@@ -750,6 +750,8 @@ impl Dashboard {
             self.notice("open a usable set first", true);
             return;
         }
+        // The folders the sets were read from: the report is never written into one of them.
+        let roots: Vec<PathBuf> = sets.iter().map(|s| s.root.clone()).collect();
         let mut train = self.train.clone();
         train.choice = self.prefs.model.choice();
         let options = tellturn::study::StudyOptions {
@@ -782,6 +784,16 @@ impl Dashboard {
                 move |out: &Path,
                       progress: &dyn tellturn::progress::Progress,
                       cancel: &tellturn::progress::Cancel| {
+                    // Refused before any training, as `tellturn report` does (in the
+                    // window's words: there is no --out here).
+                    tellturn::report::check_output_dir(&roots, out).map_err(|e| match e {
+                        tellturn::report::ReportError::IntoInput { out, input } => format!(
+                            "{} is inside the input folder {}; reports are never written into an input folder — choose another folder",
+                            out.display(),
+                            input.display()
+                        ),
+                        e => e.to_string(),
+                    })?;
                     let study = tellturn::study::run_study(a, b, &options, progress, cancel)
                         .map_err(|e| e.to_string())?;
                     tellturn::report::write_report(&study, out, progress, cancel)
@@ -989,19 +1001,35 @@ impl Dashboard {
         {
             b.cancel();
         }
-        for (title, stage, secs) in self.saver.busy() {
+        let mut cancel_save = None;
+        for (i, (title, stage, secs, cancelling)) in self.saver.busy().into_iter().enumerate() {
             ui.horizontal(|ui| {
+                let text = if cancelling {
+                    format!("{title}: stopping…")
+                } else {
+                    format!(
+                        "{title}: {} {:.0} % ({secs:.0} s)",
+                        stage.name,
+                        100.0 * stage.fraction
+                    )
+                };
                 ui.add(
                     egui::ProgressBar::new(stage.fraction)
                         .desired_width(560.0)
                         .animate(true)
-                        .text(format!(
-                            "{title}: {} {:.0} % ({secs:.0} s)",
-                            stage.name,
-                            100.0 * stage.fraction
-                        )),
+                        .text(text),
                 );
+                if ui
+                    .button("Cancel")
+                    .on_hover_text(format!("Stop {title}"))
+                    .clicked()
+                {
+                    cancel_save = Some(i);
+                }
             });
+        }
+        if let Some(i) = cancel_save {
+            self.saver.cancel(i);
         }
         let mut dismiss = None;
         for (i, n) in self.notices.iter().enumerate().rev().take(2) {

@@ -2,7 +2,7 @@
 //! shown), then write atomically on a worker so a large report never stalls the window.
 
 use super::dialogs::{Answer, Ask, Pending};
-use super::jobs::Job;
+use super::jobs::{CANCELLED, Job};
 use egui::RichText;
 use std::path::{Path, PathBuf};
 
@@ -122,6 +122,10 @@ impl Saver {
                 msgs.push(Ok(format!("saved {}", p.display())));
                 false
             }
+            Some(Err(e)) if e == CANCELLED => {
+                msgs.push(Ok(format!("{} stopped: cancelled", j.title)));
+                false
+            }
             Some(Err(e)) => {
                 msgs.push(Err(format!("could not save: {e}")));
                 false
@@ -131,12 +135,19 @@ impl Saver {
         (msgs, unavailable)
     }
 
-    /// Saves in progress: title, stage, seconds.
-    pub fn busy(&self) -> Vec<(String, super::jobs::Stage, f32)> {
+    /// Saves in progress: title, stage, seconds, and whether a cancel was asked for.
+    pub fn busy(&self) -> Vec<(String, super::jobs::Stage, f32, bool)> {
         self.writing
             .iter()
-            .map(|j| (j.title.clone(), j.stage(), j.seconds()))
+            .map(|j| (j.title.clone(), j.stage(), j.seconds(), j.is_cancelling()))
             .collect()
+    }
+
+    /// Ask save `i` (in the order of [`Saver::busy`]) to stop; its cancelled result still arrives.
+    pub fn cancel(&self, i: usize) {
+        if let Some(j) = self.writing.get(i) {
+            j.cancel();
+        }
     }
 
     /// The path window, shown when no dialog is available.
