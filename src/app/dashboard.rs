@@ -2,7 +2,7 @@
 //! and the views as tabs. It owns the state and hands each view what it shows.
 
 use super::bundled;
-use super::dialogs::{Answer, Ask, Pending};
+use super::dialogs::{Answer, Ask, Dialogs, Pending};
 use super::follow::Follow;
 use super::jobs::{CANCELLED, Job};
 use super::opener::Opener;
@@ -133,6 +133,8 @@ pub struct Setup {
     pub train: TrainOptions,
     /// Bootstrap resamples for event-impact intervals.
     pub bootstrap: usize,
+    /// Who answers the file dialogs (the desktop's, unless a test scripts them).
+    pub dialogs: Dialogs,
 }
 
 impl Default for Setup {
@@ -145,6 +147,7 @@ impl Default for Setup {
                 ..TrainOptions::default()
             },
             bootstrap: 1000,
+            dialogs: Dialogs::default(),
         }
     }
 }
@@ -186,6 +189,7 @@ pub struct Dashboard {
     shot_rect: Option<(egui::Rect, &'static str)>,
     external: HashMap<u64, (PathBuf, Arc<WinModel>)>,
     scoring: Vec<(u64, Job<Vec<tellturn::analysis::traces::Trace>>)>,
+    dialogs: Dialogs,
     theme_applied: Option<bool>,
     actions: Vec<Action>,
     ctx: egui::Context,
@@ -221,8 +225,8 @@ impl Dashboard {
             side_by_side: SideBySide,
             compare_job: None,
             compare_result: None,
-            opener: Opener::default(),
-            saver: Saver::default(),
+            opener: Opener::with_dialogs(setup.dialogs.clone()),
+            saver: Saver::with_dialogs(setup.dialogs.clone()),
             model_dialog: None,
             follows: Vec::new(),
             notices: Vec::new(),
@@ -233,6 +237,7 @@ impl Dashboard {
             shot_rect: None,
             external: HashMap::new(),
             scoring: Vec::new(),
+            dialogs: setup.dialogs.clone(),
             theme_applied: None,
             actions: Vec::new(),
             ctx: ctx.clone(),
@@ -720,7 +725,7 @@ impl Dashboard {
                         self.notice("No file dialog is available: type the model file's path into the path field of the Open window and press \"Load as model\".", true);
                         self.opener.show(None);
                     } else {
-                        self.model_dialog = Some(Pending::show(ctx, Ask::ModelFile));
+                        self.model_dialog = Some(self.dialogs.show(ctx, Ask::ModelFile));
                     }
                 }
                 Action::ExportReport => self.export_report(ctx),

@@ -1,7 +1,7 @@
 //! Opening sets: the native dialog (off the UI thread), a path field that always works, the
 //! recent sets, and files or folders dropped onto the window.
 
-use super::dialogs::{Answer, Ask, Pending};
+use super::dialogs::{Answer, Ask, Dialogs, Pending};
 use egui::{RichText, Ui};
 use std::path::PathBuf;
 
@@ -15,9 +15,19 @@ pub struct Opener {
     /// Set once a dialog answered faster than a person could: no dialog on this desktop.
     pub no_dialogs: bool,
     note: Option<String>,
+    /// Who answers the dialogs.
+    pub dialogs: Dialogs,
 }
 
 impl Opener {
+    /// A fresh flow whose dialogs are answered by `dialogs`.
+    pub fn with_dialogs(dialogs: Dialogs) -> Self {
+        Self {
+            dialogs,
+            ..Self::default()
+        }
+    }
+
     /// Show the window, optionally with a note (why it opened).
     pub fn show(&mut self, note: Option<String>) {
         self.open = true;
@@ -32,7 +42,7 @@ impl Opener {
             ));
             return;
         }
-        self.pending = Some(Pending::show(ctx, ask));
+        self.pending = Some(self.dialogs.show(ctx, ask));
     }
 
     /// Paths chosen this frame (from the dialog or from the path field).
@@ -88,10 +98,10 @@ impl Opener {
                 if !self.no_dialogs {
                     ui.horizontal(|ui| {
                         if ui.button("Choose a folder…").clicked() {
-                            self.pending = Some(Pending::show(ui.ctx(), Ask::Folder));
+                            self.pending = Some(self.dialogs.show(ui.ctx(), Ask::Folder));
                         }
                         if ui.button("Choose an events file…").clicked() {
-                            self.pending = Some(Pending::show(ui.ctx(), Ask::EventsFile));
+                            self.pending = Some(self.dialogs.show(ui.ctx(), Ask::EventsFile));
                         }
                         if self.pending.is_some() {
                             ui.spinner();

@@ -1,7 +1,7 @@
 //! Saving: ask where (native dialog off the UI thread, or a path field when no dialog can be
 //! shown), then write atomically on a worker so a large report never stalls the window.
 
-use super::dialogs::{Answer, Ask, Pending};
+use super::dialogs::{Answer, Ask, Dialogs, Pending};
 use super::jobs::{CANCELLED, Job};
 use egui::RichText;
 use std::path::{Path, PathBuf};
@@ -32,6 +32,8 @@ pub struct Saver {
     asking_path: bool,
     path: String,
     writing: Vec<Job<PathBuf>>,
+    /// Who answers the save dialogs.
+    pub dialogs: Dialogs,
 }
 
 /// Write bytes atomically (temporary file, then rename).
@@ -44,6 +46,14 @@ pub fn bytes_writer(bytes: Vec<u8>) -> Writer {
 }
 
 impl Saver {
+    /// A fresh flow whose dialogs are answered by `dialogs`.
+    pub fn with_dialogs(dialogs: Dialogs) -> Self {
+        Self {
+            dialogs,
+            ..Self::default()
+        }
+    }
+
     /// Start saving `what` (for messages) under a suggested file name.
     pub fn begin(
         &mut self,
@@ -63,7 +73,7 @@ impl Saver {
         if no_dialogs {
             self.ask_path();
         } else {
-            self.pending = Some(Pending::show(
+            self.pending = Some(self.dialogs.show(
                 ctx,
                 Ask::SaveAs {
                     name: name.into(),
