@@ -5,7 +5,7 @@ use super::bundled;
 use super::dialogs::{Answer, Ask, Dialogs, Pending};
 use super::follow::Follow;
 use super::jobs::{CANCELLED, Job};
-use super::opener::Opener;
+use super::opener::{Opened, Opener};
 use super::palette;
 use super::prefs::{ModelPick, Prefs};
 use super::saver::{Saver, bytes_writer};
@@ -16,7 +16,7 @@ use super::views::replay::Replay;
 use super::views::roster::{Roster, RosterAction};
 use super::views::side_by_side::SideBySide;
 use super::views::swing_makers::SwingMakers;
-use super::workspace::{Bundle, Fit, Learned, Origin, Shelf};
+use super::workspace::{Bundle, Fit, Learned, Loaded, Origin, Scored, Shelf};
 use egui::{RichText, Ui};
 use std::collections::HashMap;
 use std::path::{Path, PathBuf};
@@ -26,7 +26,6 @@ use std::time::Instant;
 use tellturn::analysis::compare::{CompareParams, CompareSide, Comparison, compare};
 use tellturn::analysis::traces::TraceSource;
 use tellturn::evaluate::train::{TrainOptions, score_sessions};
-use tellturn::models::win_model::WinModel;
 use tellturn::sessions::{EventSource, Severity, load_set, load_set_from_reader};
 
 /// The views, in tab order.
@@ -119,6 +118,8 @@ enum Action {
     ExportCsv,
     SaveModel,
     LoadModel,
+    LoadModelFrom(PathBuf),
+    Train(u64),
     ExportReport,
 }
 
@@ -187,8 +188,7 @@ pub struct Dashboard {
     shot_next: Option<&'static str>,
     shot: Option<Receiver<Arc<egui::ColorImage>>>,
     shot_rect: Option<(egui::Rect, &'static str)>,
-    external: HashMap<u64, (PathBuf, Arc<WinModel>)>,
-    scoring: Vec<(u64, Job<Vec<tellturn::analysis::traces::Trace>>)>,
+    model_load: Option<(u64, Job<Loaded>)>,
     dialogs: Dialogs,
     theme_applied: Option<bool>,
     actions: Vec<Action>,
@@ -235,8 +235,7 @@ impl Dashboard {
             shot_next: None,
             shot: None,
             shot_rect: None,
-            external: HashMap::new(),
-            scoring: Vec::new(),
+            model_load: None,
             dialogs: setup.dialogs.clone(),
             theme_applied: None,
             actions: Vec::new(),
@@ -408,6 +407,7 @@ impl Dashboard {
                     Ok(learned) => {
                         let traces = Arc::new(learned.training.traces.clone());
                         b.learned = Some(Arc::new(learned));
+                        b.loaded = None;
                         b.fit = Fit::Done;
                         b.set_traces(traces, threshold);
                         msgs.push((format!("training on {} finished", b.name()), false));
@@ -421,6 +421,38 @@ impl Dashboard {
                     }
                 }
             }
+            if let Fit::Scoring(j) = &mut b.fit
+                && let Some(r) = j.poll()
+            {
+                match r {
+                    Ok(scored) => {
+                        msgs.push((
+                            format!(
+                                "scored {} with the model from {}",
+                                b.name(),
+                                scored.loaded.path.display()
+                            ),
+                            false,
+                        ));
+                        b.loaded = Some(scored.loaded);
+                        b.learned = None;
+                        b.fit = Fit::Done;
+                        b.set_traces(Arc::new(scored.traces), threshold);
+                    }
+                    Err(e) => {
+                        msgs.push((
+                            format!("scoring {} with the loaded model stopped: {e}", b.name()),
+                            e != CANCELLED,
+                        ));
+                        // What was there before (a trained or loaded model) stays in use.
+                        b.fit = if b.learned.is_some() || b.loaded.is_some() {
+                            Fit::Done
+                        } else {
+                            Fit::ScoringFailed(e)
+                        };
+                    }
+                }
+            }
         }
         for (text, error) in msgs {
             self.notice(text, error);
@@ -428,24 +460,14 @@ impl Dashboard {
         for id in to_train {
             self.start_training(ctx, id);
         }
-        let mut done = Vec::new();
-        self.scoring.retain_mut(|(id, j)| match j.poll() {
-            Some(r) => {
-                done.push((*id, r));
-                false
-            }
-            None => true,
-        });
-        for (id, r) in done {
+        if let Some((id, j)) = &mut self.model_load
+            && let Some(r) = j.poll()
+        {
+            let id = *id;
+            self.model_load = None;
             match r {
-                Ok(traces) => {
-                    if let Some(b) = self.shelf.get_mut(id) {
-                        b.set_traces(Arc::new(traces), threshold);
-                        let name = b.name().to_string();
-                        self.notice(format!("scored {name} with the loaded model"), false);
-                    }
-                }
-                Err(e) => self.notice(format!("scoring stopped: {e}"), true),
+                Ok(loaded) => self.start_scoring(ctx, id, loaded),
+                Err(e) => self.notice(format!("could not load the model: {e}"), true),
             }
         }
         // Facilitator mode.
@@ -454,12 +476,7 @@ impl Dashboard {
             let Some(b) = self.shelf.get(f.bundle) else {
                 continue;
             };
-            let model = self.external.get(&b.id).map(|m| m.1.clone()).or_else(|| {
-                b.learned
-                    .as_ref()
-                    .map(|l| Arc::new(l.training.model.clone()))
-            });
-            if let Some(r) = f.tick(ctx, model, &b.set, &b.traces) {
+            if let Some(r) = f.tick(ctx, b.model(), &b.set, &b.traces) {
                 rereads.push((f.bundle, r));
             }
         }
@@ -503,8 +520,7 @@ impl Dashboard {
                 Answer::Dismissed => {}
                 Answer::Unavailable => {
                     self.opener.no_dialogs = true;
-                    self.notice("No file dialog is available here; type the model file's path in the Open window's path field with the \"Load model\" button.", true);
-                    self.opener.show(None);
+                    self.opener.show(Some(NO_MODEL_DIALOG.into()));
                 }
             }
         }
@@ -533,32 +549,74 @@ impl Dashboard {
         }
     }
 
+    /// Read a model file (on a worker) to score the chosen set with.
     fn load_model_file(&mut self, ctx: &egui::Context, path: &Path) {
-        let Some(id) = self.active else {
+        let Some(b) = self.active.and_then(|id| self.shelf.get(id)) else {
             self.notice("open a set first, then load a model to score it", true);
             return;
         };
-        match tellturn::models::file::load_model(path) {
-            Err(e) => self.notice(format!("could not load the model: {e}"), true),
-            Ok(model) => {
-                let model = Arc::new(model);
-                let Some(b) = self.shelf.get(id) else { return };
-                let set = b.set.clone();
-                let m = model.clone();
-                let job = Job::spawn(
-                    ctx,
-                    format!("scoring {} with {}", b.name(), path.display()),
-                    move |_, cancel| {
-                        let sessions: Vec<(usize, usize)> =
-                            (0..set.sessions.len()).map(|k| (0, k)).collect();
-                        score_sessions(&m, &[&set], &sessions, |_, _| TraceSource::Scored, cancel)
-                            .map_err(|e| e.to_string())
-                    },
-                );
-                self.external.insert(id, (path.to_path_buf(), model));
-                self.scoring.push((id, job));
-            }
+        if b.loading.is_some() {
+            self.notice(
+                format!(
+                    "{} is still being read; load the model once it is",
+                    b.name()
+                ),
+                true,
+            );
+            return;
         }
+        if !b.set.is_usable() {
+            self.notice(
+                format!("{} cannot be used, so there is nothing to score", b.name()),
+                true,
+            );
+            return;
+        }
+        let (id, p) = (b.id, path.to_path_buf());
+        let job = Job::spawn_quick(ctx, format!("reading {}", path.display()), move |_, _| {
+            let model = tellturn::models::file::load_model(&p).map_err(|e| e.to_string())?;
+            Ok(Loaded {
+                path: p,
+                model: Arc::new(model),
+            })
+        });
+        self.model_load = Some((id, job));
+    }
+
+    /// Score every session of a set with a loaded model, instead of training on it: a training
+    /// run in progress is stopped.
+    fn start_scoring(&mut self, ctx: &egui::Context, id: u64, loaded: Loaded) {
+        let Some(b) = self.shelf.get_mut(id) else {
+            return;
+        };
+        if b.loading.is_some() || !b.set.is_usable() {
+            return;
+        }
+        b.cancel();
+        let set = b.set.clone();
+        let title = format!(
+            "scoring {} with {}",
+            b.name(),
+            loaded
+                .path
+                .file_name()
+                .map(|n| n.to_string_lossy().into_owned())
+                .unwrap_or_default()
+        );
+        b.fit = Fit::Scoring(Job::spawn(ctx, title, move |progress, cancel| {
+            progress.report("scoring sessions", 0.0);
+            let sessions: Vec<(usize, usize)> = (0..set.sessions.len()).map(|k| (0, k)).collect();
+            let traces = score_sessions(
+                &loaded.model,
+                &[&set],
+                &sessions,
+                |_, _| TraceSource::Scored,
+                cancel,
+            )
+            .map_err(|e| e.to_string())?;
+            progress.report("scoring sessions", 1.0);
+            Ok(Scored { loaded, traces })
+        }));
     }
 
     fn keys_free(ctx: &egui::Context) -> bool {
@@ -597,8 +655,11 @@ impl Dashboard {
             .default_size(260.0)
             .show(ui, |ui| self.sets_panel(ui));
         egui::CentralPanel::default().show(ui, |ui| self.central(ui));
-        for p in self.opener.window(&ctx, &self.prefs.recent.clone()) {
-            self.actions.push(Action::Open(p));
+        for o in self.opener.window(&ctx, &self.prefs.recent.clone()) {
+            self.actions.push(match o {
+                Opened::Set(p) => Action::Open(p),
+                Opened::Model(p) => Action::LoadModelFrom(p),
+            });
         }
         self.saver.window(&ctx);
         self.about_window(&ctx);
@@ -661,9 +722,16 @@ impl Dashboard {
                 Action::Retrain => {
                     let ids: Vec<u64> = self.shelf.bundles.iter().map(|b| b.id).collect();
                     for id in ids {
-                        self.start_training(ctx, id);
+                        match self.shelf.get(id) {
+                            Some(b) if b.loaded.is_some() => {
+                                let name = b.name().to_string();
+                                self.notice(format!("{name} keeps the model loaded from a file; use Train beside it to train on it instead"), false);
+                            }
+                            _ => self.start_training(ctx, id),
+                        }
                     }
                 }
+                Action::Train(id) => self.start_training(ctx, id),
                 Action::Follow(id, on) => {
                     self.follows.retain(|f| f.bundle != id);
                     if on
@@ -722,12 +790,12 @@ impl Dashboard {
                 }
                 Action::LoadModel => {
                     if self.opener.no_dialogs {
-                        self.notice("No file dialog is available: type the model file's path into the path field of the Open window and press \"Load as model\".", true);
-                        self.opener.show(None);
+                        self.opener.show(Some(NO_MODEL_DIALOG.into()));
                     } else {
                         self.model_dialog = Some(self.dialogs.show(ctx, Ask::ModelFile));
                     }
                 }
+                Action::LoadModelFrom(p) => self.load_model_file(ctx, &p),
                 Action::ExportReport => self.export_report(ctx),
             }
         }
@@ -817,6 +885,16 @@ impl Dashboard {
                 format!("{}-sessions.csv", b.name()),
                 self.roster.csv(&b.set, &b.facts, b.id, b.generation),
             )),
+            Tab::ModelCheck if b.loaded.is_some() => {
+                let rows = ModelCheck::loaded_rows(b.loaded.as_ref()?);
+                Some((
+                    format!("{}-loaded-model.csv", b.name()),
+                    super::views::table::to_csv(
+                        &["what", "value"],
+                        rows.into_iter().map(|r| r.to_vec()),
+                    ),
+                ))
+            }
             Tab::ModelCheck => {
                 let l = b.learned.as_ref()?;
                 let q = l.out_of_fold.as_ref()?;
@@ -1076,6 +1154,7 @@ impl Dashboard {
         }
         let mut close = None;
         let mut follow = None;
+        let mut train = None;
         for b in &self.shelf.bundles {
             let active = self.active == Some(b.id);
             ui.horizontal(|ui| {
@@ -1114,8 +1193,11 @@ impl Dashboard {
                         j.stage().name,
                         100.0 * j.stage().fraction
                     ),
+                    Fit::Scoring(_) => "scoring with the loaded model".into(),
                     Fit::Failed(e) if e == CANCELLED => "training cancelled".into(),
                     Fit::Failed(_) => "training failed".into(),
+                    Fit::ScoringFailed(_) => "scoring failed".into(),
+                    Fit::Done if b.loaded.is_some() => "ready (loaded model)".into(),
                     Fit::Done => "ready".into(),
                     Fit::Idle => String::new(),
                 };
@@ -1129,7 +1211,7 @@ impl Dashboard {
                 )
             };
             ui.small(status);
-            if let Fit::Failed(e) = &b.fit
+            if let Fit::Failed(e) | Fit::ScoringFailed(e) = &b.fit
                 && e != CANCELLED
             {
                 ui.label(
@@ -1137,6 +1219,22 @@ impl Dashboard {
                         .color(palette::warn(ui.visuals().dark_mode))
                         .small(),
                 );
+            }
+            let can_train = b.loading.is_none()
+                && b.set.is_usable()
+                && !matches!(b.fit, Fit::Running(_) | Fit::Scoring(_))
+                && (b.learned.is_none() || b.loaded.is_some());
+            if can_train
+                && ui
+                    .small_button("Train")
+                    .on_hover_text(format!(
+                        "Train a model on {} ({}), checked on sessions it never saw; it replaces any model loaded from a file",
+                        b.name(),
+                        self.prefs.model.words()
+                    ))
+                    .clicked()
+            {
+                train = Some(b.id);
             }
             if b.origin.path().is_some() && b.set.is_usable() {
                 let mut on = self.follows.iter().any(|f| f.bundle == b.id);
@@ -1159,6 +1257,9 @@ impl Dashboard {
         }
         if let Some(id) = close {
             self.actions.push(Action::Close(id));
+        }
+        if let Some(id) = train {
+            self.actions.push(Action::Train(id));
         }
         if let Some((id, on)) = follow {
             self.actions.push(Action::Follow(id, on));
@@ -1301,15 +1402,15 @@ impl Dashboard {
                     self.tab = Tab::Replay;
                 }
             }
-            Tab::ModelCheck => match b.learned.clone() {
-                Some(l) => self.chart_rect = self.model_check.ui(ui, &l),
-                None => {
-                    if let Some((path, _)) = self.external.get(&id) {
-                        ui.label(format!("This set is scored with the model loaded from {}; the model check needs a training run on finished sessions.", path.display()));
-                    } else {
-                        Self::waiting_for_training(ui, b);
+            Tab::ModelCheck => match (b.learned.clone(), &b.loaded) {
+                (_, Some(loaded)) => {
+                    let scored = b.traces.len();
+                    if ModelCheck::loaded_ui(ui, loaded, b.name(), scored) {
+                        self.actions.push(Action::Train(id));
                     }
                 }
+                (Some(l), None) => self.chart_rect = self.model_check.ui(ui, &l),
+                (None, None) => Self::waiting_for_training(ui, b),
             },
             Tab::Fairness => match b.learned.clone() {
                 Some(l) => match &l.balance {
@@ -1334,10 +1435,20 @@ impl Dashboard {
         }
     }
 
+    /// What a view that needs a training run says while there is none.
     fn waiting_for_training(ui: &mut Ui, b: &Bundle) {
+        let warn = palette::warn(ui.visuals().dark_mode);
         match &b.fit {
-            Fit::Failed(e) => ui.label(RichText::new(format!("Training stopped: {e}")).color(palette::warn(ui.visuals().dark_mode))),
-            _ => ui.label("Training is running in the background (see the progress bar below); this view fills in when it finishes."),
+            _ if b.loaded.is_some() => ui.label(format!(
+                "{} is scored with a model loaded from a file. This view needs a training run on this set (Train, in the list of sets on the left); the Roster, Replay and When-decided views use the loaded model's chances.",
+                b.name()
+            )),
+            Fit::Failed(e) if e == CANCELLED => ui.label("Training was cancelled. Press Train beside the set on the left to start it again."),
+            Fit::Failed(e) => ui.label(RichText::new(format!("Training stopped: {e}")).color(warn)),
+            Fit::ScoringFailed(e) => ui.label(RichText::new(format!("Scoring with the loaded model stopped: {e}")).color(warn)),
+            Fit::Scoring(_) => ui.label("Scoring with the loaded model (see the progress bar below)…"),
+            Fit::Idle | Fit::Done => ui.label("No model yet for this set: press Train beside it on the left."),
+            Fit::Running(_) => ui.label("Training is running in the background (see the progress bar below); this view fills in when it finishes."),
         };
     }
 
@@ -1509,7 +1620,7 @@ impl Dashboard {
     /// Whether background work is running (for tests and benchmarks).
     #[cfg_attr(not(test), allow(dead_code))]
     pub fn busy(&self) -> bool {
-        self.shelf.any_busy() || !self.scoring.is_empty()
+        self.shelf.any_busy() || self.model_load.is_some()
     }
 
     /// Select a session and bring the Replay to the front (for tests).
@@ -1521,6 +1632,9 @@ impl Dashboard {
         }
     }
 }
+
+/// What the Open window says when no dialog can choose a model file.
+const NO_MODEL_DIALOG: &str = "No file dialog can be shown on this desktop. Type or paste the path of the model file below and press \"Load as model\".";
 
 /// The part of a screenshot inside `rect` (in points), clipped to the image: the window may
 /// have changed size between the request and the picture.

@@ -19,6 +19,15 @@ pub struct Opener {
     pub dialogs: Dialogs,
 }
 
+/// What the Open window was asked to open.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum Opened {
+    /// A session-set folder or events file.
+    Set(PathBuf),
+    /// A model file, to score the chosen set with.
+    Model(PathBuf),
+}
+
 impl Opener {
     /// A fresh flow whose dialogs are answered by `dialogs`.
     pub fn with_dialogs(dialogs: Dialogs) -> Self {
@@ -66,8 +75,8 @@ impl Opener {
         out
     }
 
-    /// Draw the window; returns paths to open.
-    pub fn window(&mut self, ctx: &egui::Context, recent: &[PathBuf]) -> Vec<PathBuf> {
+    /// Draw the window; returns what to open.
+    pub fn window(&mut self, ctx: &egui::Context, recent: &[PathBuf]) -> Vec<Opened> {
         let mut out = Vec::new();
         if !self.open {
             return out;
@@ -91,7 +100,16 @@ impl Opener {
                         .on_hover_text("The folder of a session set, or its events file. Press Enter or click Open.");
                     let enter = r.lost_focus() && ui.input(|i| i.key_pressed(egui::Key::Enter));
                     if (ui.button("Open").clicked() || enter) && !self.path.trim().is_empty() {
-                        out.push(PathBuf::from(self.path.trim()));
+                        out.push(Opened::Set(PathBuf::from(self.path.trim())));
+                        self.path.clear();
+                    }
+                    if ui
+                        .button("Load as model")
+                        .on_hover_text("The path is a model file saved earlier (Export → Save model, or `tellturn train`): score the chosen set with it instead of training here.")
+                        .clicked()
+                        && !self.path.trim().is_empty()
+                    {
+                        out.push(Opened::Model(PathBuf::from(self.path.trim())));
                         self.path.clear();
                     }
                 });
@@ -114,7 +132,7 @@ impl Opener {
                     ui.label("Recent sets:");
                     for p in recent {
                         if ui.link(p.display().to_string()).on_hover_text("Open this set again").clicked() {
-                            out.push(p.clone());
+                            out.push(Opened::Set(p.clone()));
                         }
                     }
                 }

@@ -3,10 +3,11 @@
 //! calibration chart, the learning curve, the metrics table and the choice of model kind.
 
 use crate::app::palette;
-use crate::app::workspace::Learned;
+use crate::app::workspace::{Learned, Loaded};
 use egui::{RichText, Ui};
 use egui_plot::{FilledArea, HLine, Legend, Line, MarkerShape, Plot, PlotPoints, Points};
 use tellturn::evaluate::quality::{CurvePoint, Quality};
+use tellturn::models::win_model::ModelKind;
 
 /// The view's own state.
 #[derive(Default)]
@@ -162,6 +163,85 @@ impl ModelCheck {
                     });
             });
         rect
+    }
+
+    /// What a model file says about itself, as (what, value) rows: the training summary it was
+    /// saved with.
+    pub fn loaded_rows(loaded: &Loaded) -> Vec<[String; 2]> {
+        let m = &loaded.model;
+        let s = &m.summary;
+        let kind = match m.win.kind() {
+            ModelKind::Boosted => "boosted trees",
+            ModelKind::Logistic => "logistic regression",
+        };
+        let row = |a: &str, b: String| [a.to_string(), b];
+        vec![
+            row("model file", loaded.path.display().to_string()),
+            row(
+                "kind",
+                format!(
+                    "{kind}{}",
+                    if m.draw.is_some() {
+                        ", with a draw model"
+                    } else {
+                        ""
+                    }
+                ),
+            ),
+            row("how it was chosen", s.choice.clone()),
+            row("settings", s.settings.clone()),
+            row("trained on sets", s.sets.join(", ")),
+            row(
+                "training sessions",
+                format!("{} ({} turn rows)", s.trained_sessions, s.trained_rows),
+            ),
+            row("held-out test sessions", s.test_sessions.to_string()),
+            row("test log loss", opt(s.test_log_loss, 3)),
+            row(
+                "test: favourite won",
+                s.test_accuracy.map(pct).unwrap_or_else(|| "—".into()),
+            ),
+            row("feature columns", m.spec.width().to_string()),
+            row("seed", s.seed.to_string()),
+            row("written by", s.created_by.clone()),
+        ]
+    }
+
+    /// The view for a set scored with a model loaded from a file: what the file says about the
+    /// model, and which charts need a training run on this set. Returns true when the user asks
+    /// to train on the set instead.
+    pub fn loaded_ui(ui: &mut Ui, loaded: &Loaded, set: &str, scored: usize) -> bool {
+        let warn = palette::warn(ui.visuals().dark_mode);
+        ui.label(
+            RichText::new(format!("{set} is scored with a model loaded from a file")).strong(),
+        );
+        ui.label(format!(
+            "{scored} sessions were given win chances by this model; nothing was trained on {set}."
+        ));
+        ui.add_space(4.0);
+        ui.label(RichText::new("What the model file records about its training").strong())
+            .on_hover_text("The training summary saved in the model file when it was trained. The held-out figures were measured on sessions of the sets it was trained on, not on this set.");
+        egui::Grid::new("loaded-model")
+            .striped(true)
+            .show(ui, |ui| {
+                for [a, b] in Self::loaded_rows(loaded) {
+                    ui.label(a);
+                    ui.label(b);
+                    ui.end_row();
+                }
+            });
+        for note in &loaded.model.summary.notes {
+            ui.label(RichText::new(format!("Note: {note}")).color(warn));
+        }
+        ui.add_space(6.0);
+        ui.label(RichText::new("Needs a training run on this set").strong());
+        ui.label("• here: accuracy and log loss by turn, the calibration chart, the learning curve and the candidates tried;");
+        ui.label("• the Fairness view and the What-swings-games view.");
+        ui.label("They measure how well chances predict this set's outcomes using sessions the model never saw, which only a training run on this set gives. The Roster, Replay and When-decided views already use the loaded model's chances.");
+        ui.add_space(4.0);
+        ui.button("Train on this set")
+            .on_hover_text("Train a model on this set's finished sessions (in the background) and use it instead of the loaded one")
+            .clicked()
     }
 
     /// The metrics rows as (name, out-of-fold, test share, meaning).
