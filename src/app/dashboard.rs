@@ -136,6 +136,9 @@ pub struct Setup {
     pub bootstrap: usize,
     /// Who answers the file dialogs (the desktop's, unless a test scripts them).
     pub dialogs: Dialogs,
+    /// Make every training run panic, to check that a panic becomes a message.
+    #[cfg(test)]
+    pub panic_in_training: bool,
 }
 
 impl Default for Setup {
@@ -149,6 +152,8 @@ impl Default for Setup {
             },
             bootstrap: 1000,
             dialogs: Dialogs::default(),
+            #[cfg(test)]
+            panic_in_training: false,
         }
     }
 }
@@ -190,6 +195,8 @@ pub struct Dashboard {
     shot_rect: Option<(egui::Rect, &'static str)>,
     model_load: Option<(u64, Job<Loaded>)>,
     dialogs: Dialogs,
+    #[cfg(test)]
+    panic_in_training: bool,
     theme_applied: Option<bool>,
     actions: Vec<Action>,
     ctx: egui::Context,
@@ -237,6 +244,8 @@ impl Dashboard {
             shot_rect: None,
             model_load: None,
             dialogs: setup.dialogs.clone(),
+            #[cfg(test)]
+            panic_in_training: setup.panic_in_training,
             theme_applied: None,
             actions: Vec::new(),
             ctx: ctx.clone(),
@@ -351,7 +360,13 @@ impl Dashboard {
         let set = b.set.clone();
         let bootstrap = self.bootstrap;
         let title = format!("training on {} ({})", b.name(), self.prefs.model.words());
+        #[cfg(test)]
+        let panic = self.panic_in_training;
         b.fit = Fit::Running(Job::spawn(ctx, title, move |progress, cancel| {
+            #[cfg(test)]
+            if panic {
+                panic!("a failure injected by a test");
+            }
             Learned::compute(&set, &options, bootstrap, progress, cancel)
         }));
     }
@@ -1621,6 +1636,27 @@ impl Dashboard {
     #[cfg_attr(not(test), allow(dead_code))]
     pub fn busy(&self) -> bool {
         self.shelf.any_busy() || self.model_load.is_some()
+    }
+
+    /// The main chart's rectangle in the last frame, if the view has one (for tests).
+    #[cfg_attr(not(test), allow(dead_code))]
+    pub fn chart_rect(&self) -> Option<egui::Rect> {
+        self.chart_rect
+    }
+
+    /// Whether nothing is being saved or asked for (for tests).
+    #[cfg_attr(not(test), allow(dead_code))]
+    pub fn saves_idle(&self) -> bool {
+        self.saver.is_idle() && self.shot.is_none() && self.shot_next.is_none()
+    }
+
+    /// The latest messages of the status line, oldest first (for tests).
+    #[cfg_attr(not(test), allow(dead_code))]
+    pub fn notices(&self) -> Vec<(String, bool)> {
+        self.notices
+            .iter()
+            .map(|n| (n.text.clone(), n.error))
+            .collect()
     }
 
     /// Select a session and bring the Replay to the front (for tests).

@@ -12,6 +12,8 @@ mod palette;
 mod prefs;
 mod saver;
 #[cfg(test)]
+mod soft_render;
+#[cfg(test)]
 mod tests;
 mod views;
 mod workspace;

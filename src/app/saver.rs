@@ -160,6 +160,12 @@ impl Saver {
         }
     }
 
+    /// Whether anything is waiting for a dialog, a path or a write.
+    #[cfg_attr(not(test), allow(dead_code))]
+    pub fn is_idle(&self) -> bool {
+        self.request.is_none() && self.pending.is_none() && self.writing.is_empty()
+    }
+
     /// The path window, shown when no dialog is available.
     pub fn window(&mut self, ctx: &egui::Context) {
         if !self.asking_path {
