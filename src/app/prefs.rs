@@ -1,5 +1,5 @@
-//! What the dashboard remembers between runs (eframe storage): recent sets, threshold, theme,
-//! model kind and the tab in front. Window size and panel layout are kept by eframe itself.
+//! What the dashboard remembers between runs (eframe storage): recent sets, threshold, theme
+//! and model kind. Window size and panel layout are kept by eframe itself.
 
 use serde::{Deserialize, Serialize};
 use std::path::PathBuf;
