@@ -1593,7 +1593,23 @@ impl Dashboard {
             .filter(|r| r.0 == key)
             .map(|r| &r.1);
         if !ready {
-            ui.label("Both sets need a trained model first; training runs in the background (see the progress bar below).");
+            let loaded: Vec<&str> = [a, b]
+                .iter()
+                .filter(|x| x.loaded.is_some())
+                .map(|x| x.name())
+                .collect();
+            if loaded.is_empty() {
+                ui.label("Both sets need a trained model first; training runs in the background (see the progress bar below).");
+            } else {
+                ui.label(format!(
+                    "The comparison needs a training run on both sets: {} scored with a model loaded from a file. Press Train beside it on the left.",
+                    if loaded.len() == 1 {
+                        format!("{} is", loaded[0])
+                    } else {
+                        format!("{} and {} are", loaded[0], loaded[1])
+                    }
+                ));
+            }
         }
         let (da, db) = (a.decisions.clone(), b.decisions.clone());
         let (na, nb) = (a.name().to_string(), b.name().to_string());

@@ -1001,6 +1001,24 @@ fn a_model_saved_from_the_window_scores_a_new_set_in_a_fresh_window_without_trai
         tellturn::models::win_model::ModelKind::Logistic => "logistic regression",
     };
     assert!(h.query_all_by_label_contains(kind).next().is_some());
+    // Its table export is that summary.
+    let summary_csv = out.join("loaded.csv");
+    script.choose_path(&summary_csv);
+    export_menu(&mut h, "Current table as CSV…");
+    step_until(&mut h, "the CSV", |h| {
+        dash(h).saves_idle() && summary_csv.exists()
+    });
+    let mut r = csv::Reader::from_path(&summary_csv).unwrap();
+    assert_eq!(r.headers().unwrap(), vec!["what", "value"]);
+    let rows: Vec<(String, String)> = r
+        .records()
+        .map(|x| {
+            let x = x.unwrap();
+            (x[0].to_string(), x[1].to_string())
+        })
+        .collect();
+    assert!(rows.contains(&("seed".into(), saved.summary.seed.to_string())));
+    assert!(rows.contains(&("feature columns".into(), saved.spec.width().to_string())));
     // Several frames later still nothing trains.
     h.run_steps(5);
     assert!(!dash(&h).busy());
@@ -1250,7 +1268,12 @@ fn cancel_stops_training_and_a_report_export_within_a_second() {
 #[test]
 fn a_training_failure_becomes_a_message_in_the_window() {
     // Two finished sessions: too few to train and check a model.
-    let mut h = harness(quick_setup(vec![repo("tests/inputs/in_progress")]));
+    let out = scratch("failure");
+    let script = Arc::new(Script::default());
+    let mut h = harness(scripted_setup(
+        vec![repo("tests/inputs/in_progress")],
+        &script,
+    ));
     step_until(&mut h, "training to stop", |h| {
         matches!(
             dash(h).shelf.bundles.first().map(|b| &b.fit),
@@ -1284,6 +1307,24 @@ fn a_training_failure_becomes_a_message_in_the_window() {
             .iter()
             .any(|(t, err)| *err && t.contains(&e))
     );
+    // With no win chances there is no decided turn to give: not "never".
+    h.get_by_label("Roster").click();
+    h.run_steps(2);
+    let path = out.join("sessions.csv");
+    script.choose_path(&path);
+    export_menu(&mut h, "Current table as CSV…");
+    step_until(&mut h, "the CSV", |h| dash(h).saves_idle() && path.exists());
+    let mut r = csv::Reader::from_path(&path).unwrap();
+    let col = r
+        .headers()
+        .unwrap()
+        .iter()
+        .position(|c| c == "Decided at")
+        .expect("a decided-turn column");
+    let rows: Vec<csv::StringRecord> = r.records().map(|x| x.unwrap()).collect();
+    assert_eq!(rows.len(), 3);
+    assert!(rows.iter().all(|r| r[col].is_empty()), "{rows:?}");
+    let _ = std::fs::remove_dir_all(&out);
 }
 
 #[test]
@@ -1316,4 +1357,57 @@ fn a_panic_in_the_worker_becomes_a_message_and_the_window_keeps_running() {
             .is_some()
     );
     assert!(h.query_by_label("Train").is_some());
+}
+
+#[test]
+fn without_a_file_dialog_a_typed_path_loads_a_model() {
+    let out = scratch("typed-model");
+    let model_path = out.join("m.json");
+    let script = Arc::new(Script::default());
+    let mut h = harness(scripted_setup(
+        vec![repo("sample_sessions/vessmire-weekend")],
+        &script,
+    ));
+    step_until(&mut h, "training", trained);
+    let model = dash(&h).shelf.bundles[0]
+        .learned
+        .as_ref()
+        .unwrap()
+        .training
+        .model
+        .clone();
+    tellturn::models::file::save_model(&model, &model_path).unwrap();
+    // The desktop has no dialog to offer.
+    script.answer(Answer::Unavailable);
+    export_menu(&mut h, "Load a model to score this set…");
+    step_until(&mut h, "the Open window", |h| {
+        h.query_by_label("Load as model").is_some()
+    });
+    assert!(
+        h.query_all_by_label_contains("No file dialog can be shown")
+            .next()
+            .is_some(),
+        "the window says why it asks for a path"
+    );
+    h.get_by_label("Path:").click();
+    h.run_steps(1);
+    h.get_by_label("Path:")
+        .type_text(&model_path.display().to_string());
+    h.run_steps(1);
+    h.get_by_label("Load as model").click();
+    step_until(&mut h, "scoring", |h| {
+        !dash(h).busy() && dash(h).shelf.bundles[0].loaded.is_some()
+    });
+    let b = &dash(&h).shelf.bundles[0];
+    assert_eq!(b.loaded.as_ref().unwrap().path, model_path);
+    assert!(b.learned.is_none());
+    assert_eq!(b.traces.len(), b.set.sessions.len());
+    // Train puts a model trained here back in charge.
+    h.get_by_label("Model check").click();
+    h.run_steps(2);
+    h.get_by_label("Train on this set").click();
+    step_until(&mut h, "training again", trained);
+    let b = &dash(&h).shelf.bundles[0];
+    assert!(b.learned.is_some() && b.loaded.is_none());
+    let _ = std::fs::remove_dir_all(&out);
 }
