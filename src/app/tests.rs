@@ -996,6 +996,12 @@ fn a_model_saved_from_the_window_scores_a_new_set_in_a_fresh_window_without_trai
             "the model check shows {want:?}"
         );
     }
+    assert!(
+        h.query_all_by_label_contains("the model has seen them")
+            .next()
+            .is_none(),
+        "new sessions under another name: no in-sample warning"
+    );
     let kind = match saved.win.kind() {
         tellturn::models::win_model::ModelKind::Boosted => "boosted trees",
         tellturn::models::win_model::ModelKind::Logistic => "logistic regression",
@@ -1398,13 +1404,19 @@ fn without_a_file_dialog_a_typed_path_loads_a_model() {
     step_until(&mut h, "scoring", |h| {
         !dash(h).busy() && dash(h).shelf.bundles[0].loaded.is_some()
     });
+    // The model was trained on these very sessions: the view warns about it.
+    h.get_by_label("Model check").click();
+    h.run_steps(2);
+    assert!(
+        h.query_all_by_label_contains("the model has seen them")
+            .next()
+            .is_some()
+    );
     let b = &dash(&h).shelf.bundles[0];
     assert_eq!(b.loaded.as_ref().unwrap().path, model_path);
     assert!(b.learned.is_none());
     assert_eq!(b.traces.len(), b.set.sessions.len());
     // Train puts a model trained here back in charge.
-    h.get_by_label("Model check").click();
-    h.run_steps(2);
     h.get_by_label("Train on this set").click();
     step_until(&mut h, "training again", trained);
     let b = &dash(&h).shelf.bundles[0];

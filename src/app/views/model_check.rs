@@ -233,6 +233,9 @@ impl ModelCheck {
         for note in &loaded.model.summary.notes {
             ui.label(RichText::new(format!("Note: {note}")).color(warn));
         }
+        if loaded.model.summary.sets.iter().any(|s| s == set) {
+            ui.label(RichText::new(format!("The model was trained on a set also named {set}: if these are the same sessions, the model has seen them, and its chances here look more certain than they would on new sessions.")).color(warn));
+        }
         ui.add_space(6.0);
         ui.label(RichText::new("Needs a training run on this set").strong());
         ui.label("• here: accuracy and log loss by turn, the calibration chart, the learning curve and the candidates tried;");

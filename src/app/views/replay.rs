@@ -58,8 +58,7 @@ pub fn source_words(source: TraceSource) -> String {
             "held-out test session: the final model never saw it while learning".into()
         }
         TraceSource::Scored => {
-            "scored by the trained model (the session is in progress or was not part of training)"
-                .into()
+            "scored by the model in use: one loaded from a file, or the one trained here for a session that was not part of training (e.g. still in progress)".into()
         }
     }
 }
