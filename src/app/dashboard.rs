@@ -2,10 +2,10 @@
 //! and the views as tabs. It owns the state and hands each view what it shows.
 
 use super::bundled;
-use super::dialogs::{Answer, Ask, Pending};
+use super::dialogs::{Answer, Ask, Dialogs, Pending};
 use super::follow::Follow;
-use super::jobs::Job;
-use super::opener::Opener;
+use super::jobs::{CANCELLED, Job};
+use super::opener::{Opened, Opener};
 use super::palette;
 use super::prefs::{ModelPick, Prefs};
 use super::saver::{Saver, bytes_writer};
@@ -16,7 +16,7 @@ use super::views::replay::Replay;
 use super::views::roster::{Roster, RosterAction};
 use super::views::side_by_side::SideBySide;
 use super::views::swing_makers::SwingMakers;
-use super::workspace::{Bundle, Fit, Learned, Origin, Shelf};
+use super::workspace::{Bundle, Fit, Learned, Loaded, Origin, Scored, Shelf};
 use egui::{RichText, Ui};
 use std::collections::HashMap;
 use std::path::{Path, PathBuf};
@@ -26,7 +26,6 @@ use std::time::Instant;
 use tellturn::analysis::compare::{CompareParams, CompareSide, Comparison, compare};
 use tellturn::analysis::traces::TraceSource;
 use tellturn::evaluate::train::{TrainOptions, score_sessions};
-use tellturn::models::win_model::WinModel;
 use tellturn::sessions::{EventSource, Severity, load_set, load_set_from_reader};
 
 /// The views, in tab order.
@@ -119,6 +118,8 @@ enum Action {
     ExportCsv,
     SaveModel,
     LoadModel,
+    LoadModelFrom(PathBuf),
+    Train(u64),
     ExportReport,
 }
 
@@ -133,6 +134,11 @@ pub struct Setup {
     pub train: TrainOptions,
     /// Bootstrap resamples for event-impact intervals.
     pub bootstrap: usize,
+    /// Who answers the file dialogs (the desktop's, unless a test scripts them).
+    pub dialogs: Dialogs,
+    /// Make every training run panic, to check that a panic becomes a message.
+    #[cfg(test)]
+    pub panic_in_training: bool,
 }
 
 impl Default for Setup {
@@ -145,6 +151,9 @@ impl Default for Setup {
                 ..TrainOptions::default()
             },
             bootstrap: 1000,
+            dialogs: Dialogs::default(),
+            #[cfg(test)]
+            panic_in_training: false,
         }
     }
 }
@@ -181,10 +190,13 @@ pub struct Dashboard {
     notices: Vec<Notice>,
     about: bool,
     chart_rect: Option<egui::Rect>,
+    shot_next: Option<&'static str>,
     shot: Option<Receiver<Arc<egui::ColorImage>>>,
     shot_rect: Option<(egui::Rect, &'static str)>,
-    external: HashMap<u64, (PathBuf, Arc<WinModel>)>,
-    scoring: Vec<(u64, Job<Vec<tellturn::analysis::traces::Trace>>)>,
+    model_load: Option<(u64, Job<Loaded>)>,
+    dialogs: Dialogs,
+    #[cfg(test)]
+    panic_in_training: bool,
     theme_applied: Option<bool>,
     actions: Vec<Action>,
     ctx: egui::Context,
@@ -220,17 +232,20 @@ impl Dashboard {
             side_by_side: SideBySide,
             compare_job: None,
             compare_result: None,
-            opener: Opener::default(),
-            saver: Saver::default(),
+            opener: Opener::with_dialogs(setup.dialogs.clone()),
+            saver: Saver::with_dialogs(setup.dialogs.clone()),
             model_dialog: None,
             follows: Vec::new(),
             notices: Vec::new(),
             about: false,
             chart_rect: None,
+            shot_next: None,
             shot: None,
             shot_rect: None,
-            external: HashMap::new(),
-            scoring: Vec::new(),
+            model_load: None,
+            dialogs: setup.dialogs.clone(),
+            #[cfg(test)]
+            panic_in_training: setup.panic_in_training,
             theme_applied: None,
             actions: Vec::new(),
             ctx: ctx.clone(),
@@ -345,7 +360,13 @@ impl Dashboard {
         let set = b.set.clone();
         let bootstrap = self.bootstrap;
         let title = format!("training on {} ({})", b.name(), self.prefs.model.words());
+        #[cfg(test)]
+        let panic = self.panic_in_training;
         b.fit = Fit::Running(Job::spawn(ctx, title, move |progress, cancel| {
+            #[cfg(test)]
+            if panic {
+                panic!("a failure injected by a test");
+            }
             Learned::compute(&set, &options, bootstrap, progress, cancel)
         }));
     }
@@ -401,6 +422,7 @@ impl Dashboard {
                     Ok(learned) => {
                         let traces = Arc::new(learned.training.traces.clone());
                         b.learned = Some(Arc::new(learned));
+                        b.loaded = None;
                         b.fit = Fit::Done;
                         b.set_traces(traces, threshold);
                         msgs.push((format!("training on {} finished", b.name()), false));
@@ -408,9 +430,41 @@ impl Dashboard {
                     Err(e) => {
                         msgs.push((
                             format!("training on {} stopped: {e}", b.name()),
-                            e != "cancelled",
+                            e != CANCELLED,
                         ));
                         b.fit = Fit::Failed(e);
+                    }
+                }
+            }
+            if let Fit::Scoring(j) = &mut b.fit
+                && let Some(r) = j.poll()
+            {
+                match r {
+                    Ok(scored) => {
+                        msgs.push((
+                            format!(
+                                "scored {} with the model from {}",
+                                b.name(),
+                                scored.loaded.path.display()
+                            ),
+                            false,
+                        ));
+                        b.loaded = Some(scored.loaded);
+                        b.learned = None;
+                        b.fit = Fit::Done;
+                        b.set_traces(Arc::new(scored.traces), threshold);
+                    }
+                    Err(e) => {
+                        msgs.push((
+                            format!("scoring {} with the loaded model stopped: {e}", b.name()),
+                            e != CANCELLED,
+                        ));
+                        // What was there before (a trained or loaded model) stays in use.
+                        b.fit = if b.learned.is_some() || b.loaded.is_some() {
+                            Fit::Done
+                        } else {
+                            Fit::ScoringFailed(e)
+                        };
                     }
                 }
             }
@@ -421,24 +475,14 @@ impl Dashboard {
         for id in to_train {
             self.start_training(ctx, id);
         }
-        let mut done = Vec::new();
-        self.scoring.retain_mut(|(id, j)| match j.poll() {
-            Some(r) => {
-                done.push((*id, r));
-                false
-            }
-            None => true,
-        });
-        for (id, r) in done {
+        if let Some((id, j)) = &mut self.model_load
+            && let Some(r) = j.poll()
+        {
+            let id = *id;
+            self.model_load = None;
             match r {
-                Ok(traces) => {
-                    if let Some(b) = self.shelf.get_mut(id) {
-                        b.set_traces(Arc::new(traces), threshold);
-                        let name = b.name().to_string();
-                        self.notice(format!("scored {name} with the loaded model"), false);
-                    }
-                }
-                Err(e) => self.notice(format!("scoring stopped: {e}"), true),
+                Ok(loaded) => self.start_scoring(ctx, id, loaded),
+                Err(e) => self.notice(format!("could not load the model: {e}"), true),
             }
         }
         // Facilitator mode.
@@ -447,12 +491,7 @@ impl Dashboard {
             let Some(b) = self.shelf.get(f.bundle) else {
                 continue;
             };
-            let model = self.external.get(&b.id).map(|m| m.1.clone()).or_else(|| {
-                b.learned
-                    .as_ref()
-                    .map(|l| Arc::new(l.training.model.clone()))
-            });
-            if let Some(r) = f.tick(ctx, model, &b.set, &b.traces) {
+            if let Some(r) = f.tick(ctx, b.model(), &b.set, &b.traces) {
                 rereads.push((f.bundle, r));
             }
         }
@@ -496,8 +535,7 @@ impl Dashboard {
                 Answer::Dismissed => {}
                 Answer::Unavailable => {
                     self.opener.no_dialogs = true;
-                    self.notice("No file dialog is available here; type the model file's path in the Open window's path field with the \"Load model\" button.", true);
-                    self.opener.show(None);
+                    self.opener.show(Some(NO_MODEL_DIALOG.into()));
                 }
             }
         }
@@ -507,8 +545,7 @@ impl Dashboard {
             self.shot = None;
             if let Some((rect, view)) = self.shot_rect.take() {
                 let ppp = ctx.pixels_per_point();
-                let region = img.region(&rect, Some(ppp));
-                match encode_png(&region) {
+                match crop(&img, rect, ppp).and_then(|region| encode_png(&region)) {
                     Ok(bytes) => {
                         let name =
                             format!("tellturn-{}.png", view.to_lowercase().replace(' ', "-"));
@@ -527,32 +564,74 @@ impl Dashboard {
         }
     }
 
+    /// Read a model file (on a worker) to score the chosen set with.
     fn load_model_file(&mut self, ctx: &egui::Context, path: &Path) {
-        let Some(id) = self.active else {
+        let Some(b) = self.active.and_then(|id| self.shelf.get(id)) else {
             self.notice("open a set first, then load a model to score it", true);
             return;
         };
-        match tellturn::models::file::load_model(path) {
-            Err(e) => self.notice(format!("could not load the model: {e}"), true),
-            Ok(model) => {
-                let model = Arc::new(model);
-                let Some(b) = self.shelf.get(id) else { return };
-                let set = b.set.clone();
-                let m = model.clone();
-                let job = Job::spawn(
-                    ctx,
-                    format!("scoring {} with {}", b.name(), path.display()),
-                    move |_, cancel| {
-                        let sessions: Vec<(usize, usize)> =
-                            (0..set.sessions.len()).map(|k| (0, k)).collect();
-                        score_sessions(&m, &[&set], &sessions, |_, _| TraceSource::Scored, cancel)
-                            .map_err(|e| e.to_string())
-                    },
-                );
-                self.external.insert(id, (path.to_path_buf(), model));
-                self.scoring.push((id, job));
-            }
+        if b.loading.is_some() {
+            self.notice(
+                format!(
+                    "{} is still being read; load the model once it is",
+                    b.name()
+                ),
+                true,
+            );
+            return;
         }
+        if !b.set.is_usable() {
+            self.notice(
+                format!("{} cannot be used, so there is nothing to score", b.name()),
+                true,
+            );
+            return;
+        }
+        let (id, p) = (b.id, path.to_path_buf());
+        let job = Job::spawn_quick(ctx, format!("reading {}", path.display()), move |_, _| {
+            let model = tellturn::models::file::load_model(&p).map_err(|e| e.to_string())?;
+            Ok(Loaded {
+                path: p,
+                model: Arc::new(model),
+            })
+        });
+        self.model_load = Some((id, job));
+    }
+
+    /// Score every session of a set with a loaded model, instead of training on it: a training
+    /// run in progress is stopped.
+    fn start_scoring(&mut self, ctx: &egui::Context, id: u64, loaded: Loaded) {
+        let Some(b) = self.shelf.get_mut(id) else {
+            return;
+        };
+        if b.loading.is_some() || !b.set.is_usable() {
+            return;
+        }
+        b.cancel();
+        let set = b.set.clone();
+        let title = format!(
+            "scoring {} with {}",
+            b.name(),
+            loaded
+                .path
+                .file_name()
+                .map(|n| n.to_string_lossy().into_owned())
+                .unwrap_or_default()
+        );
+        b.fit = Fit::Scoring(Job::spawn(ctx, title, move |progress, cancel| {
+            progress.report("scoring sessions", 0.0);
+            let sessions: Vec<(usize, usize)> = (0..set.sessions.len()).map(|k| (0, k)).collect();
+            let traces = score_sessions(
+                &loaded.model,
+                &[&set],
+                &sessions,
+                |_, _| TraceSource::Scored,
+                cancel,
+            )
+            .map_err(|e| e.to_string())?;
+            progress.report("scoring sessions", 1.0);
+            Ok(Scored { loaded, traces })
+        }));
     }
 
     fn keys_free(ctx: &egui::Context) -> bool {
@@ -591,8 +670,11 @@ impl Dashboard {
             .default_size(260.0)
             .show(ui, |ui| self.sets_panel(ui));
         egui::CentralPanel::default().show(ui, |ui| self.central(ui));
-        for p in self.opener.window(&ctx, &self.prefs.recent.clone()) {
-            self.actions.push(Action::Open(p));
+        for o in self.opener.window(&ctx, &self.prefs.recent.clone()) {
+            self.actions.push(match o {
+                Opened::Set(p) => Action::Open(p),
+                Opened::Model(p) => Action::LoadModelFrom(p),
+            });
         }
         self.saver.window(&ctx);
         self.about_window(&ctx);
@@ -611,7 +693,29 @@ impl Dashboard {
                 egui::Color32::WHITE,
             );
         }
+        self.take_shot(&ctx);
         self.run_actions(&ctx);
+    }
+
+    /// Ask for the screenshot of a chart export, one frame after it was asked for: by then the
+    /// Export menu is closed and no longer covers the chart.
+    fn take_shot(&mut self, ctx: &egui::Context) {
+        let Some(view) = self.shot_next.take() else {
+            return;
+        };
+        match self.chart_rect {
+            Some(rect) if rect.is_positive() => {
+                let (tx, rx) = channel();
+                let c = ctx.clone();
+                ctx.request_screenshot(move |img| {
+                    let _ = tx.send(img);
+                    c.request_repaint();
+                });
+                self.shot = Some(rx);
+                self.shot_rect = Some((rect, view));
+            }
+            _ => self.notice("this view has no chart to export", true),
+        }
     }
 
     fn run_actions(&mut self, ctx: &egui::Context) {
@@ -633,9 +737,16 @@ impl Dashboard {
                 Action::Retrain => {
                     let ids: Vec<u64> = self.shelf.bundles.iter().map(|b| b.id).collect();
                     for id in ids {
-                        self.start_training(ctx, id);
+                        match self.shelf.get(id) {
+                            Some(b) if b.loaded.is_some() => {
+                                let name = b.name().to_string();
+                                self.notice(format!("{name} keeps the model loaded from a file; use Train beside it to train on it instead"), false);
+                            }
+                            _ => self.start_training(ctx, id),
+                        }
                     }
                 }
+                Action::Train(id) => self.start_training(ctx, id),
                 Action::Follow(id, on) => {
                     self.follows.retain(|f| f.bundle != id);
                     if on
@@ -653,15 +764,12 @@ impl Dashboard {
                     }
                 }
                 Action::ExportPng => match self.chart_rect {
-                    Some(rect) => {
-                        let (tx, rx) = channel();
-                        let c = ctx.clone();
-                        ctx.request_screenshot(move |img| {
-                            let _ = tx.send(img);
-                            c.request_repaint();
-                        });
-                        self.shot = Some(rx);
-                        self.shot_rect = Some((rect, self.tab.title()));
+                    Some(_) if self.shot.is_some() || self.shot_next.is_some() => {
+                        self.notice("a chart export is already under way", true)
+                    }
+                    Some(_) => {
+                        self.shot_next = Some(self.tab.title());
+                        ctx.request_repaint();
                     }
                     None => self.notice("this view has no chart to export", true),
                 },
@@ -697,12 +805,12 @@ impl Dashboard {
                 }
                 Action::LoadModel => {
                     if self.opener.no_dialogs {
-                        self.notice("No file dialog is available: type the model file's path into the path field of the Open window and press \"Load as model\".", true);
-                        self.opener.show(None);
+                        self.opener.show(Some(NO_MODEL_DIALOG.into()));
                     } else {
-                        self.model_dialog = Some(Pending::show(ctx, Ask::ModelFile));
+                        self.model_dialog = Some(self.dialogs.show(ctx, Ask::ModelFile));
                     }
                 }
+                Action::LoadModelFrom(p) => self.load_model_file(ctx, &p),
                 Action::ExportReport => self.export_report(ctx),
             }
         }
@@ -730,6 +838,8 @@ impl Dashboard {
             self.notice("open a usable set first", true);
             return;
         }
+        // The folders the sets were read from: the report is never written into one of them.
+        let roots: Vec<PathBuf> = sets.iter().map(|s| s.root.clone()).collect();
         let mut train = self.train.clone();
         train.choice = self.prefs.model.choice();
         let options = tellturn::study::StudyOptions {
@@ -762,6 +872,16 @@ impl Dashboard {
                 move |out: &Path,
                       progress: &dyn tellturn::progress::Progress,
                       cancel: &tellturn::progress::Cancel| {
+                    // Refused before any training, as `tellturn report` does (in the
+                    // window's words: there is no --out here).
+                    tellturn::report::check_output_dir(&roots, out).map_err(|e| match e {
+                        tellturn::report::ReportError::IntoInput { out, input } => format!(
+                            "{} is inside the input folder {}; reports are never written into an input folder — choose another folder",
+                            out.display(),
+                            input.display()
+                        ),
+                        e => e.to_string(),
+                    })?;
                     let study = tellturn::study::run_study(a, b, &options, progress, cancel)
                         .map_err(|e| e.to_string())?;
                     tellturn::report::write_report(&study, out, progress, cancel)
@@ -772,13 +892,24 @@ impl Dashboard {
         );
     }
 
-    fn table_csv(&self) -> Option<(String, String)> {
+    /// The table of the view in front as (file name, CSV text), with the rows as shown.
+    fn table_csv(&mut self) -> Option<(String, String)> {
         let b = self.shelf.get(self.active?)?;
         match self.tab {
             Tab::Roster | Tab::Replay | Tab::Decided => Some((
                 format!("{}-sessions.csv", b.name()),
-                self.roster.csv(&b.set, &b.facts),
+                self.roster.csv(&b.set, &b.facts, b.id, b.generation),
             )),
+            Tab::ModelCheck if b.loaded.is_some() => {
+                let rows = ModelCheck::loaded_rows(b.loaded.as_ref()?);
+                Some((
+                    format!("{}-loaded-model.csv", b.name()),
+                    super::views::table::to_csv(
+                        &["what", "value"],
+                        rows.into_iter().map(|r| r.to_vec()),
+                    ),
+                ))
+            }
             Tab::ModelCheck => {
                 let l = b.learned.as_ref()?;
                 let q = l.out_of_fold.as_ref()?;
@@ -799,7 +930,7 @@ impl Dashboard {
                 let imp = b.learned.as_ref()?.impact.as_ref().ok()?;
                 Some((
                     format!("{}-event-impact.csv", b.name()),
-                    SwingMakers::csv(imp),
+                    self.swing_makers.csv(imp),
                 ))
             }
             Tab::Compare => {
@@ -968,19 +1099,35 @@ impl Dashboard {
         {
             b.cancel();
         }
-        for (title, stage, secs) in self.saver.busy() {
+        let mut cancel_save = None;
+        for (i, (title, stage, secs, cancelling)) in self.saver.busy().into_iter().enumerate() {
             ui.horizontal(|ui| {
+                let text = if cancelling {
+                    format!("{title}: stopping…")
+                } else {
+                    format!(
+                        "{title}: {} {:.0} % ({secs:.0} s)",
+                        stage.name,
+                        100.0 * stage.fraction
+                    )
+                };
                 ui.add(
                     egui::ProgressBar::new(stage.fraction)
                         .desired_width(560.0)
                         .animate(true)
-                        .text(format!(
-                            "{title}: {} {:.0} % ({secs:.0} s)",
-                            stage.name,
-                            100.0 * stage.fraction
-                        )),
+                        .text(text),
                 );
+                if ui
+                    .button("Cancel")
+                    .on_hover_text(format!("Stop {title}"))
+                    .clicked()
+                {
+                    cancel_save = Some(i);
+                }
             });
+        }
+        if let Some(i) = cancel_save {
+            self.saver.cancel(i);
         }
         let mut dismiss = None;
         for (i, n) in self.notices.iter().enumerate().rev().take(2) {
@@ -990,7 +1137,7 @@ impl Dashboard {
             ui.horizontal(|ui| {
                 let text = RichText::new(&n.text);
                 if n.error {
-                    ui.label(text.color(palette::warn()));
+                    ui.label(text.color(palette::warn(ui.visuals().dark_mode)));
                 } else {
                     ui.label(text);
                 }
@@ -1022,6 +1169,7 @@ impl Dashboard {
         }
         let mut close = None;
         let mut follow = None;
+        let mut train = None;
         for b in &self.shelf.bundles {
             let active = self.active == Some(b.id);
             ui.horizontal(|ui| {
@@ -1060,8 +1208,11 @@ impl Dashboard {
                         j.stage().name,
                         100.0 * j.stage().fraction
                     ),
-                    Fit::Failed(e) if e == "cancelled" => "training cancelled".into(),
+                    Fit::Scoring(_) => "scoring with the loaded model".into(),
+                    Fit::Failed(e) if e == CANCELLED => "training cancelled".into(),
                     Fit::Failed(_) => "training failed".into(),
+                    Fit::ScoringFailed(_) => "scoring failed".into(),
+                    Fit::Done if b.loaded.is_some() => "ready (loaded model)".into(),
                     Fit::Done => "ready".into(),
                     Fit::Idle => String::new(),
                 };
@@ -1075,10 +1226,30 @@ impl Dashboard {
                 )
             };
             ui.small(status);
-            if let Fit::Failed(e) = &b.fit
-                && e != "cancelled"
+            if let Fit::Failed(e) | Fit::ScoringFailed(e) = &b.fit
+                && e != CANCELLED
             {
-                ui.label(RichText::new(e).color(palette::warn()).small());
+                ui.label(
+                    RichText::new(e)
+                        .color(palette::warn(ui.visuals().dark_mode))
+                        .small(),
+                );
+            }
+            let can_train = b.loading.is_none()
+                && b.set.is_usable()
+                && !matches!(b.fit, Fit::Running(_) | Fit::Scoring(_))
+                && (b.learned.is_none() || b.loaded.is_some());
+            if can_train
+                && ui
+                    .small_button("Train")
+                    .on_hover_text(format!(
+                        "Train a model on {} ({}), checked on sessions it never saw; it replaces any model loaded from a file",
+                        b.name(),
+                        self.prefs.model.words()
+                    ))
+                    .clicked()
+            {
+                train = Some(b.id);
             }
             if b.origin.path().is_some() && b.set.is_usable() {
                 let mut on = self.follows.iter().any(|f| f.bundle == b.id);
@@ -1101,6 +1272,9 @@ impl Dashboard {
         }
         if let Some(id) = close {
             self.actions.push(Action::Close(id));
+        }
+        if let Some(id) = train {
+            self.actions.push(Action::Train(id));
         }
         if let Some((id, on)) = follow {
             self.actions.push(Action::Follow(id, on));
@@ -1134,7 +1308,7 @@ impl Dashboard {
                     let text = RichText::new(format!("{} — {}", p.severity.word(), p)).small();
                     match p.severity {
                         Severity::Unusable | Severity::SetAside => {
-                            ui.label(text.color(palette::warn()))
+                            ui.label(text.color(palette::warn(ui.visuals().dark_mode)))
                         }
                         Severity::Warning => ui.label(text),
                     };
@@ -1175,7 +1349,7 @@ impl Dashboard {
             ui.label(
                 RichText::new(format!("{} cannot be used.", b.name()))
                     .strong()
-                    .color(palette::warn()),
+                    .color(palette::warn(ui.visuals().dark_mode)),
             );
             ui.label("Its problems are listed on the left (file:line: message). Fix the files and open the set again.");
             return;
@@ -1243,15 +1417,15 @@ impl Dashboard {
                     self.tab = Tab::Replay;
                 }
             }
-            Tab::ModelCheck => match b.learned.clone() {
-                Some(l) => self.chart_rect = self.model_check.ui(ui, &l),
-                None => {
-                    if let Some((path, _)) = self.external.get(&id) {
-                        ui.label(format!("This set is scored with the model loaded from {}; the model check needs a training run on finished sessions.", path.display()));
-                    } else {
-                        Self::waiting_for_training(ui, b);
+            Tab::ModelCheck => match (b.learned.clone(), &b.loaded) {
+                (_, Some(loaded)) => {
+                    let scored = b.traces.len();
+                    if ModelCheck::loaded_ui(ui, loaded, b.name(), scored) {
+                        self.actions.push(Action::Train(id));
                     }
                 }
+                (Some(l), None) => self.chart_rect = self.model_check.ui(ui, &l),
+                (None, None) => Self::waiting_for_training(ui, b),
             },
             Tab::Fairness => match b.learned.clone() {
                 Some(l) => match &l.balance {
@@ -1276,10 +1450,20 @@ impl Dashboard {
         }
     }
 
+    /// What a view that needs a training run says while there is none.
     fn waiting_for_training(ui: &mut Ui, b: &Bundle) {
+        let warn = palette::warn(ui.visuals().dark_mode);
         match &b.fit {
-            Fit::Failed(e) => ui.label(RichText::new(format!("Training stopped: {e}")).color(palette::warn())),
-            _ => ui.label("Training is running in the background (see the progress bar below); this view fills in when it finishes."),
+            _ if b.loaded.is_some() => ui.label(format!(
+                "{} is scored with a model loaded from a file. This view needs a training run on this set (Train, in the list of sets on the left); the Roster, Replay and When-decided views use the loaded model's chances.",
+                b.name()
+            )),
+            Fit::Failed(e) if e == CANCELLED => ui.label("Training was cancelled. Press Train beside the set on the left to start it again."),
+            Fit::Failed(e) => ui.label(RichText::new(format!("Training stopped: {e}")).color(warn)),
+            Fit::ScoringFailed(e) => ui.label(RichText::new(format!("Scoring with the loaded model stopped: {e}")).color(warn)),
+            Fit::Scoring(_) => ui.label("Scoring with the loaded model (see the progress bar below)…"),
+            Fit::Idle | Fit::Done => ui.label("No model yet for this set: press Train beside it on the left."),
+            Fit::Running(_) => ui.label("Training is running in the background (see the progress bar below); this view fills in when it finishes."),
         };
     }
 
@@ -1409,7 +1593,23 @@ impl Dashboard {
             .filter(|r| r.0 == key)
             .map(|r| &r.1);
         if !ready {
-            ui.label("Both sets need a trained model first; training runs in the background (see the progress bar below).");
+            let loaded: Vec<&str> = [a, b]
+                .iter()
+                .filter(|x| x.loaded.is_some())
+                .map(|x| x.name())
+                .collect();
+            if loaded.is_empty() {
+                ui.label("Both sets need a trained model first; training runs in the background (see the progress bar below).");
+            } else {
+                ui.label(format!(
+                    "The comparison needs a training run on both sets: {} scored with a model loaded from a file. Press Train beside it on the left.",
+                    if loaded.len() == 1 {
+                        format!("{} is", loaded[0])
+                    } else {
+                        format!("{} and {} are", loaded[0], loaded[1])
+                    }
+                ));
+            }
         }
         let (da, db) = (a.decisions.clone(), b.decisions.clone());
         let (na, nb) = (a.name().to_string(), b.name().to_string());
@@ -1433,7 +1633,7 @@ impl Dashboard {
             ui.label(format!("tellturn {}", env!("CARGO_PKG_VERSION")));
             ui.label("tellturn learns, from recorded playtest or training-exercise sessions, how each player's chance of winning moved turn by turn. From that it shows when each game was decided, what swung it, whether the game is fair between seats, and whether a rule variant changed that.");
             ui.add_space(6.0);
-            ui.label(RichText::new("Caution").strong().color(palette::warn()));
+            ui.label(RichText::new("Caution").strong().color(palette::warn(ui.visuals().dark_mode)));
             ui.label("Results describe the recorded sessions only. They are estimates from a model, not facts about real-world events, and must not be used to make operational decisions.");
             ui.add_space(6.0);
             ui.label("Words used here:");
@@ -1451,7 +1651,28 @@ impl Dashboard {
     /// Whether background work is running (for tests and benchmarks).
     #[cfg_attr(not(test), allow(dead_code))]
     pub fn busy(&self) -> bool {
-        self.shelf.any_busy() || !self.scoring.is_empty()
+        self.shelf.any_busy() || self.model_load.is_some()
+    }
+
+    /// The main chart's rectangle in the last frame, if the view has one (for tests).
+    #[cfg_attr(not(test), allow(dead_code))]
+    pub fn chart_rect(&self) -> Option<egui::Rect> {
+        self.chart_rect
+    }
+
+    /// Whether nothing is being saved or asked for (for tests).
+    #[cfg_attr(not(test), allow(dead_code))]
+    pub fn saves_idle(&self) -> bool {
+        self.saver.is_idle() && self.shot.is_none() && self.shot_next.is_none()
+    }
+
+    /// The latest messages of the status line, oldest first (for tests).
+    #[cfg_attr(not(test), allow(dead_code))]
+    pub fn notices(&self) -> Vec<(String, bool)> {
+        self.notices
+            .iter()
+            .map(|n| (n.text.clone(), n.error))
+            .collect()
     }
 
     /// Select a session and bring the Replay to the front (for tests).
@@ -1462,6 +1683,22 @@ impl Dashboard {
             self.tab = Tab::Replay;
         }
     }
+}
+
+/// What the Open window says when no dialog can choose a model file.
+const NO_MODEL_DIALOG: &str = "No file dialog can be shown on this desktop. Type or paste the path of the model file below and press \"Load as model\".";
+
+/// The part of a screenshot inside `rect` (in points), clipped to the image: the window may
+/// have changed size between the request and the picture.
+fn crop(img: &egui::ColorImage, rect: egui::Rect, ppp: f32) -> Result<egui::ColorImage, String> {
+    let [w, h] = img.size;
+    let px = |v: f32, max: usize| ((v * ppp).round().max(0.0) as usize).min(max);
+    let (x0, x1) = (px(rect.min.x, w), px(rect.max.x, w));
+    let (y0, y1) = (px(rect.min.y, h), px(rect.max.y, h));
+    if x1 <= x0 || y1 <= y0 {
+        return Err("the chart was not on screen when the picture was taken".into());
+    }
+    Ok(img.region_by_pixels([x0, y0], [x1 - x0, y1 - y0]))
 }
 
 /// Encode an image as PNG bytes.

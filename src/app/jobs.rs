@@ -7,6 +7,9 @@ use std::sync::{Arc, Mutex, OnceLock};
 use std::time::{Duration, Instant};
 use tellturn::progress::{Cancel, Progress};
 
+/// What a job that stopped because it was asked to reports.
+pub const CANCELLED: &str = "cancelled";
+
 /// The latest stage and fraction reported by a worker.
 #[derive(Debug, Clone, Default)]
 pub struct Stage {
@@ -138,9 +141,12 @@ impl<T: Send + 'static> Job<T> {
         }
     }
 
-    /// The result once the work is done (returned once).
+    /// The result once the work is done (returned once). When a cancel was asked for, a failure
+    /// arrives as exactly `cancelled`, however the engine worded it on the way out (e.g.
+    /// "fitting failed: cancelled"), so callers can tell a stop from a fault.
     pub fn poll(&mut self) -> Option<Result<T, String>> {
         match self.rx.try_recv() {
+            Ok(Err(_)) if self.is_cancelling() => Some(Err(CANCELLED.into())),
             Ok(r) => Some(r),
             Err(TryRecvError::Empty) => None,
             Err(TryRecvError::Disconnected) => {

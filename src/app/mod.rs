@@ -12,12 +12,15 @@ mod palette;
 mod prefs;
 mod saver;
 #[cfg(test)]
+mod soft_render;
+#[cfg(test)]
 mod tests;
 mod views;
 mod workspace;
 
 #[allow(unused_imports)] // `Tab` is used by the frame benchmark, which includes this module.
 pub use dashboard::{Dashboard, Setup, Tab};
+#[allow(unused_imports)] // used by the frame benchmark, which includes this module.
 pub use prefs::Prefs;
 
 /// The logistic model kind (for benchmarks, which cannot name private modules).
@@ -28,9 +31,6 @@ pub fn prefs_logistic() -> prefs::ModelPick {
 
 use std::path::PathBuf;
 
-/// The key the remembered settings are stored under.
-const PREFS_KEY: &str = "tellturn-prefs";
-
 /// The eframe app: the dashboard plus saving its settings.
 struct App(Dashboard);
 
@@ -39,7 +39,7 @@ impl eframe::App for App {
         self.0.ui(ui);
     }
     fn save(&mut self, storage: &mut dyn eframe::Storage) {
-        eframe::set_value(storage, PREFS_KEY, &self.0.prefs);
+        prefs::save(storage, &self.0.prefs);
     }
 }
 
@@ -57,10 +57,7 @@ pub fn run(paths: Vec<PathBuf>) -> i32 {
         "tellturn",
         options,
         Box::new(move |cc| {
-            let prefs: Prefs = cc
-                .storage
-                .and_then(|s| eframe::get_value(s, PREFS_KEY))
-                .unwrap_or_default();
+            let prefs = prefs::load(cc.storage);
             let setup = Setup {
                 paths,
                 ..Setup::default()

@@ -1,7 +1,7 @@
 //! Opening sets: the native dialog (off the UI thread), a path field that always works, the
 //! recent sets, and files or folders dropped onto the window.
 
-use super::dialogs::{Answer, Ask, Pending};
+use super::dialogs::{Answer, Ask, Dialogs, Pending};
 use egui::{RichText, Ui};
 use std::path::PathBuf;
 
@@ -15,9 +15,28 @@ pub struct Opener {
     /// Set once a dialog answered faster than a person could: no dialog on this desktop.
     pub no_dialogs: bool,
     note: Option<String>,
+    /// Who answers the dialogs.
+    pub dialogs: Dialogs,
+}
+
+/// What the Open window was asked to open.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum Opened {
+    /// A session-set folder or events file.
+    Set(PathBuf),
+    /// A model file, to score the chosen set with.
+    Model(PathBuf),
 }
 
 impl Opener {
+    /// A fresh flow whose dialogs are answered by `dialogs`.
+    pub fn with_dialogs(dialogs: Dialogs) -> Self {
+        Self {
+            dialogs,
+            ..Self::default()
+        }
+    }
+
     /// Show the window, optionally with a note (why it opened).
     pub fn show(&mut self, note: Option<String>) {
         self.open = true;
@@ -32,7 +51,7 @@ impl Opener {
             ));
             return;
         }
-        self.pending = Some(Pending::show(ctx, ask));
+        self.pending = Some(self.dialogs.show(ctx, ask));
     }
 
     /// Paths chosen this frame (from the dialog or from the path field).
@@ -56,8 +75,8 @@ impl Opener {
         out
     }
 
-    /// Draw the window; returns paths to open.
-    pub fn window(&mut self, ctx: &egui::Context, recent: &[PathBuf]) -> Vec<PathBuf> {
+    /// Draw the window; returns what to open.
+    pub fn window(&mut self, ctx: &egui::Context, recent: &[PathBuf]) -> Vec<Opened> {
         let mut out = Vec::new();
         if !self.open {
             return out;
@@ -69,7 +88,7 @@ impl Opener {
             .default_width(520.0)
             .show(ctx, |ui| {
                 if let Some(n) = &self.note {
-                    ui.label(RichText::new(n).color(super::palette::warn()));
+                    ui.label(RichText::new(n).color(super::palette::warn(ui.visuals().dark_mode)));
                     ui.add_space(4.0);
                 }
                 ui.label("A session set is a folder holding events.csv (or events.jsonl, or sessions/<id>.csv) and outcomes.csv. You can also name the events file itself.");
@@ -81,17 +100,26 @@ impl Opener {
                         .on_hover_text("The folder of a session set, or its events file. Press Enter or click Open.");
                     let enter = r.lost_focus() && ui.input(|i| i.key_pressed(egui::Key::Enter));
                     if (ui.button("Open").clicked() || enter) && !self.path.trim().is_empty() {
-                        out.push(PathBuf::from(self.path.trim()));
+                        out.push(Opened::Set(PathBuf::from(self.path.trim())));
+                        self.path.clear();
+                    }
+                    if ui
+                        .button("Load as model")
+                        .on_hover_text("The path is a model file saved earlier (Export → Save model, or `tellturn train`): score the chosen set with it instead of training here.")
+                        .clicked()
+                        && !self.path.trim().is_empty()
+                    {
+                        out.push(Opened::Model(PathBuf::from(self.path.trim())));
                         self.path.clear();
                     }
                 });
                 if !self.no_dialogs {
                     ui.horizontal(|ui| {
                         if ui.button("Choose a folder…").clicked() {
-                            self.pending = Some(Pending::show(ui.ctx(), Ask::Folder));
+                            self.pending = Some(self.dialogs.show(ui.ctx(), Ask::Folder));
                         }
                         if ui.button("Choose an events file…").clicked() {
-                            self.pending = Some(Pending::show(ui.ctx(), Ask::EventsFile));
+                            self.pending = Some(self.dialogs.show(ui.ctx(), Ask::EventsFile));
                         }
                         if self.pending.is_some() {
                             ui.spinner();
@@ -104,7 +132,7 @@ impl Opener {
                     ui.label("Recent sets:");
                     for p in recent {
                         if ui.link(p.display().to_string()).on_hover_text("Open this set again").clicked() {
-                            out.push(p.clone());
+                            out.push(Opened::Set(p.clone()));
                         }
                     }
                 }

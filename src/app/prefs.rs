@@ -1,5 +1,5 @@
-//! What the dashboard remembers between runs (eframe storage): recent sets, threshold, theme,
-//! model kind and the tab in front. Window size and panel layout are kept by eframe itself.
+//! What the dashboard remembers between runs (eframe storage): recent sets, threshold, theme
+//! and model kind. Window size and panel layout are kept by eframe itself.
 
 use serde::{Deserialize, Serialize};
 use std::path::PathBuf;
@@ -7,6 +7,22 @@ use tellturn::evaluate::train::ModelChoice;
 
 /// Most recent sets remembered.
 pub const MAX_RECENT: usize = 8;
+
+/// The key the remembered settings are stored under.
+const KEY: &str = "tellturn-prefs";
+
+/// The settings remembered in `storage`, or the defaults when there are none (or they cannot
+/// be read, e.g. after an incompatible change).
+pub fn load(storage: Option<&dyn eframe::Storage>) -> Prefs {
+    storage
+        .and_then(|s| eframe::get_value(s, KEY))
+        .unwrap_or_default()
+}
+
+/// Remember the settings in `storage` (eframe writes it to disk on exit and every 30 s).
+pub fn save(storage: &mut dyn eframe::Storage, prefs: &Prefs) {
+    eframe::set_value(storage, KEY, prefs);
+}
 
 /// The model kinds offered.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]

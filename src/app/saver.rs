@@ -1,8 +1,8 @@
 //! Saving: ask where (native dialog off the UI thread, or a path field when no dialog can be
 //! shown), then write atomically on a worker so a large report never stalls the window.
 
-use super::dialogs::{Answer, Ask, Pending};
-use super::jobs::Job;
+use super::dialogs::{Answer, Ask, Dialogs, Pending};
+use super::jobs::{CANCELLED, Job};
 use egui::RichText;
 use std::path::{Path, PathBuf};
 
@@ -32,6 +32,8 @@ pub struct Saver {
     asking_path: bool,
     path: String,
     writing: Vec<Job<PathBuf>>,
+    /// Who answers the save dialogs.
+    pub dialogs: Dialogs,
 }
 
 /// Write bytes atomically (temporary file, then rename).
@@ -44,6 +46,14 @@ pub fn bytes_writer(bytes: Vec<u8>) -> Writer {
 }
 
 impl Saver {
+    /// A fresh flow whose dialogs are answered by `dialogs`.
+    pub fn with_dialogs(dialogs: Dialogs) -> Self {
+        Self {
+            dialogs,
+            ..Self::default()
+        }
+    }
+
     /// Start saving `what` (for messages) under a suggested file name.
     pub fn begin(
         &mut self,
@@ -63,7 +73,7 @@ impl Saver {
         if no_dialogs {
             self.ask_path();
         } else {
-            self.pending = Some(Pending::show(
+            self.pending = Some(self.dialogs.show(
                 ctx,
                 Ask::SaveAs {
                     name: name.into(),
@@ -122,6 +132,10 @@ impl Saver {
                 msgs.push(Ok(format!("saved {}", p.display())));
                 false
             }
+            Some(Err(e)) if e == CANCELLED => {
+                msgs.push(Ok(format!("{} stopped: cancelled", j.title)));
+                false
+            }
             Some(Err(e)) => {
                 msgs.push(Err(format!("could not save: {e}")));
                 false
@@ -131,12 +145,25 @@ impl Saver {
         (msgs, unavailable)
     }
 
-    /// Saves in progress: title, stage, seconds.
-    pub fn busy(&self) -> Vec<(String, super::jobs::Stage, f32)> {
+    /// Saves in progress: title, stage, seconds, and whether a cancel was asked for.
+    pub fn busy(&self) -> Vec<(String, super::jobs::Stage, f32, bool)> {
         self.writing
             .iter()
-            .map(|j| (j.title.clone(), j.stage(), j.seconds()))
+            .map(|j| (j.title.clone(), j.stage(), j.seconds(), j.is_cancelling()))
             .collect()
+    }
+
+    /// Ask save `i` (in the order of [`Saver::busy`]) to stop; its cancelled result still arrives.
+    pub fn cancel(&self, i: usize) {
+        if let Some(j) = self.writing.get(i) {
+            j.cancel();
+        }
+    }
+
+    /// Whether anything is waiting for a dialog, a path or a write.
+    #[cfg_attr(not(test), allow(dead_code))]
+    pub fn is_idle(&self) -> bool {
+        self.request.is_none() && self.pending.is_none() && self.writing.is_empty()
     }
 
     /// The path window, shown when no dialog is available.
@@ -152,7 +179,7 @@ impl Saver {
         let mut open = true;
         let mut chosen = None;
         egui::Window::new(format!("Save {what}")).open(&mut open).collapsible(false).show(ctx, |ui| {
-            ui.label(RichText::new("No file dialog is available here; type where to save.").color(super::palette::warn()));
+            ui.label(RichText::new("No file dialog is available here; type where to save.").color(super::palette::warn(ui.visuals().dark_mode)));
             ui.horizontal(|ui| {
                 let l = ui.label("Save to:");
                 ui.add(egui::TextEdit::singleline(&mut self.path).desired_width(380.0)).labelled_by(l.id);

@@ -14,6 +14,7 @@ use tellturn::analysis::swings::{
 use tellturn::analysis::traces::{Trace, TraceSource};
 use tellturn::evaluate::quality::{Quality, quality};
 use tellturn::evaluate::train::{TrainOptions, Training, train};
+use tellturn::models::win_model::WinModel;
 use tellturn::sessions::{SessionSet, Severity};
 
 /// Where a set came from.
@@ -97,7 +98,7 @@ impl Learned {
         )
         .map_err(|e| e.to_string());
         if cancel.is_cancelled() {
-            return Err("cancelled".into());
+            return Err(super::jobs::CANCELLED.into());
         }
         let leverage =
             leverage_by_turn(&traces, &refs, &LeverageParams::default()).map_err(|e| e.to_string());
@@ -113,15 +114,35 @@ impl Learned {
     }
 }
 
-/// Where a set's training stands.
+/// A model read from a file, scoring a set instead of a model trained on it.
+pub struct Loaded {
+    /// The model file.
+    pub path: PathBuf,
+    /// The model, with the training summary it was saved with.
+    pub model: Arc<WinModel>,
+}
+
+/// What scoring a set with a loaded model produced (on a worker).
+pub struct Scored {
+    /// The model used.
+    pub loaded: Loaded,
+    /// One trace per session.
+    pub traces: Vec<Trace>,
+}
+
+/// Where a set's model stands.
 pub enum Fit {
-    /// Not started (the set is unusable, or still loading).
+    /// Not started (the set is unusable, still loading, or was never trained).
     Idle,
-    /// Running on a worker.
+    /// Training on a worker.
     Running(Job<Learned>),
-    /// Stopped with a message.
+    /// Scoring with a loaded model on a worker.
+    Scoring(Job<Scored>),
+    /// Training stopped with a message (`cancelled` when asked to).
     Failed(String),
-    /// Done; the result sits in [`Bundle::learned`].
+    /// Scoring with a loaded model stopped with a message.
+    ScoringFailed(String),
+    /// Done; the result sits in [`Bundle::learned`] or [`Bundle::loaded`].
     Done,
 }
 
@@ -139,6 +160,8 @@ pub struct Bundle {
     pub fit: Fit,
     /// The latest training result (kept while a retrain runs, so the views stay filled).
     pub learned: Option<Arc<Learned>>,
+    /// The model file scoring this set, when one was loaded instead of training here.
+    pub loaded: Option<Loaded>,
     /// Traces in use: the training's, with live re-scores of in-progress sessions on top.
     pub traces: Arc<Vec<Trace>>,
     /// Trace index by session index.
@@ -179,6 +202,7 @@ impl Bundle {
             loading: Some(job),
             fit: Fit::Idle,
             learned: None,
+            loaded: None,
             traces: Arc::new(Vec::new()),
             trace_of: Vec::new(),
             facts: Vec::new(),
@@ -216,18 +240,30 @@ impl Bundle {
         }
         match &self.fit {
             Fit::Running(j) => Some((j.title.clone(), j.stage(), j.seconds(), j.is_cancelling())),
+            Fit::Scoring(j) => Some((j.title.clone(), j.stage(), j.seconds(), j.is_cancelling())),
             _ => None,
         }
     }
 
-    /// Ask the running job (loading or training) to stop.
+    /// Ask the running job (loading, training or scoring) to stop.
     pub fn cancel(&self) {
         if let Some(j) = &self.loading {
             j.cancel();
         }
-        if let Fit::Running(j) = &self.fit {
-            j.cancel();
+        match &self.fit {
+            Fit::Running(j) => j.cancel(),
+            Fit::Scoring(j) => j.cancel(),
+            _ => {}
         }
+    }
+
+    /// The model that scores new events: the loaded one, else the one trained here.
+    pub fn model(&self) -> Option<Arc<WinModel>> {
+        self.loaded.as_ref().map(|l| l.model.clone()).or_else(|| {
+            self.learned
+                .as_ref()
+                .map(|l| Arc::new(l.training.model.clone()))
+        })
     }
 
     /// Install traces (from training or a live re-score) and recompute the facts.

@@ -193,6 +193,7 @@ fn main() {
                 ..TrainOptions::default()
             },
             bootstrap: 200,
+            ..Setup::default()
         },
         prefs,
     );

@@ -162,20 +162,22 @@ impl DecidedChart {
         let chart_h = (ui.available_height() * 0.62).max(200.0);
         let order = &self.order;
         let groups = &self.groups;
-        let resp = Plot::new("decided-chart")
-            .height(chart_h)
-            .x_axis_label("sessions, sorted by decided turn (never-decided ones at the right)")
-            .y_axis_label("turn")
-            .legend(Legend::default())
-            .include_y(0.0)
-            .allow_scroll(false)
-            .show_x(false)
-            .show(ui, |p| {
+        let (resp, rect) = super::show_plot(
+            ui,
+            Plot::new("decided-chart")
+                .height(chart_h)
+                .x_axis_label("sessions, sorted by decided turn (never-decided ones at the right)")
+                .y_axis_label("turn")
+                .legend(Legend::default())
+                .include_y(0.0)
+                .allow_scroll(false)
+                .show_x(false),
+            |p| {
                 for (gi, (name, ranks)) in groups.iter().enumerate() {
                     let colour = if name == "draw" {
                         palette::neutral(dark)
                     } else {
-                        palette::series(gi)
+                        palette::series(dark, gi)
                     };
                     let bars: Vec<Bar> = ranks
                         .iter()
@@ -210,7 +212,8 @@ impl DecidedChart {
                         .color(palette::rule(dark)),
                 );
                 p.pointer_coordinate()
-            });
+            },
+        );
         if let Some(pos) = resp.inner {
             let r = pos.x.round();
             if r >= 0.0 && (r as usize) < order.len() {
@@ -232,7 +235,6 @@ impl DecidedChart {
                 }
             }
         }
-        let rect = resp.response.rect;
         ui.add_space(6.0);
         ui.label(
             RichText::new("Settled share: how much of each game was played after it was decided")
@@ -261,7 +263,7 @@ impl DecidedChart {
                             .name(format!("{}–{} %", i * 10, i * 10 + 10))
                     })
                     .collect();
-                p.bar_chart(BarChart::new("sessions", bars).color(palette::series(0)));
+                p.bar_chart(BarChart::new("sessions", bars).color(palette::series(dark, 0)));
             });
         (Some(rect), open)
     }

@@ -23,25 +23,27 @@ fn rate_chart(
 ) -> egui::Rect {
     let dark = ui.visuals().dark_mode;
     let names: Vec<String> = rates.iter().map(label).collect();
-    let resp = Plot::new(id)
-        .height(height)
-        .include_y(0.0)
-        .include_y(1.0)
-        .y_axis_label("win rate")
-        .y_axis_formatter(|m, _| format!("{:.0} %", 100.0 * m.value))
-        .x_axis_formatter(move |m, _| {
-            let i = m.value.round();
-            if (m.value - i).abs() < 1e-6 && i >= 0.0 {
-                names.get(i as usize).cloned().unwrap_or_default()
-            } else {
-                String::new()
-            }
-        })
-        .allow_scroll(false)
-        .allow_drag(false)
-        .allow_zoom(false)
-        .legend(Legend::default())
-        .show(ui, |p| {
+    let (_, full) = super::show_plot(
+        ui,
+        Plot::new(id)
+            .height(height)
+            .include_y(0.0)
+            .include_y(1.0)
+            .y_axis_label("win rate")
+            .y_axis_formatter(|m, _| format!("{:.0} %", 100.0 * m.value))
+            .x_axis_formatter(move |m, _| {
+                let i = m.value.round();
+                if (m.value - i).abs() < 1e-6 && i >= 0.0 {
+                    names.get(i as usize).cloned().unwrap_or_default()
+                } else {
+                    String::new()
+                }
+            })
+            .allow_scroll(false)
+            .allow_drag(false)
+            .allow_zoom(false)
+            .legend(Legend::default()),
+        |p| {
             let bars: Vec<Bar> = rates
                 .iter()
                 .enumerate()
@@ -54,8 +56,8 @@ fn rate_chart(
                             r.wins,
                             r.sessions
                         ))
-                        .fill(palette::band(palette::series(i)))
-                        .stroke(egui::Stroke::new(1.5, palette::series(i)))
+                        .fill(palette::band(palette::series(dark, i)))
+                        .stroke(egui::Stroke::new(1.5, palette::series(dark, i)))
                 })
                 .collect();
             p.bar_chart(
@@ -101,13 +103,15 @@ fn rate_chart(
                         .style(egui_plot::LineStyle::Dashed { length: 6.0 }),
                 );
             }
-        });
-    resp.response.rect
+        },
+    );
+    full
 }
 
 impl Fairness {
     /// Draw the balance of a set; returns the seat chart's rectangle.
     pub fn ui(&mut self, ui: &mut Ui, b: &Balance) -> Option<egui::Rect> {
+        let dark = ui.visuals().dark_mode;
         ui.label(
             RichText::new(format!(
                 "Is it fair? {} finished sessions, {} draws ({})",
@@ -166,7 +170,7 @@ impl Fairness {
                     let bars: Vec<Bar> = routes
                         .iter()
                         .enumerate()
-                        .map(|(i, r)| Bar::new(i as f64, r.share).width(0.6).name(format!("{}: {} sessions ({})", r.route, r.count, pct(r.share))).fill(palette::series(i)))
+                        .map(|(i, r)| Bar::new(i as f64, r.share).width(0.6).name(format!("{}: {} sessions ({})", r.route, r.count, pct(r.share))).fill(palette::series(dark, i)))
                         .collect();
                     p.bar_chart(BarChart::new("routes", bars).element_formatter(Box::new(|b, _| b.name.clone())));
                 });
@@ -190,7 +194,7 @@ impl Fairness {
                             Bar::new(bin.lo as f64 + w / 2.0 - 0.5, bin.count as f64).width(w * 0.9).name(format!("{}–{} turns: {}", bin.lo, bin.hi, bin.count))
                         })
                         .collect();
-                    p.bar_chart(BarChart::new("sessions", bars).color(palette::series(0)).element_formatter(Box::new(|b, _| b.name.clone())));
+                    p.bar_chart(BarChart::new("sessions", bars).color(palette::series(dark, 0)).element_formatter(Box::new(|b, _| b.name.clone())));
                 });
         });
         rect

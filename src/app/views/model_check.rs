@@ -3,10 +3,11 @@
 //! calibration chart, the learning curve, the metrics table and the choice of model kind.
 
 use crate::app::palette;
-use crate::app::workspace::Learned;
+use crate::app::workspace::{Learned, Loaded};
 use egui::{RichText, Ui};
 use egui_plot::{FilledArea, HLine, Legend, Line, MarkerShape, Plot, PlotPoints, Points};
 use tellturn::evaluate::quality::{CurvePoint, Quality};
+use tellturn::models::win_model::ModelKind;
 
 /// The view's own state.
 #[derive(Default)]
@@ -30,7 +31,9 @@ impl ModelCheck {
         ui.label(RichText::new(format!("Model: {}", t.model.summary.choice)).strong())
             .on_hover_text("Which kind of model was fitted and why: the candidates were compared on sessions left out of fitting, and the one with the lowest log loss won.");
         for note in &t.notes {
-            ui.label(RichText::new(format!("Note: {note}")).color(palette::warn()));
+            ui.label(
+                RichText::new(format!("Note: {note}")).color(palette::warn(ui.visuals().dark_mode)),
+            );
         }
         let Some(q) = learned.out_of_fold.as_ref() else {
             ui.label("Too few finished sessions to check the model on sessions it never saw.");
@@ -61,7 +64,7 @@ impl ModelCheck {
         ui.columns(2, |cols| {
             cols[0].label(RichText::new("How often the favourite went on to win").strong())
                 .on_hover_text("Accuracy: the share of sessions in which the player with the highest win chance at that point went on to win. The band is a 95 % Wilson interval.");
-            let r = Plot::new("model-accuracy")
+            let (_, full) = super::show_plot(&mut cols[0], Plot::new("model-accuracy")
                 .height(h)
                 .include_y(0.0)
                 .include_y(1.0)
@@ -70,15 +73,16 @@ impl ModelCheck {
                 .y_axis_formatter(|m, _| format!("{:.0} %", 100.0 * m.value))
                 .allow_scroll(false)
                 .legend(Legend::default())
-                .show(&mut cols[0], |p| {
+                ,
+|p| {
                     let xs: Vec<f64> = curve.iter().map(|c| c.x as f64).collect();
                     let lo: Vec<f64> = curve.iter().map(|c| c.accuracy_interval.lo).collect();
                     let hi: Vec<f64> = curve.iter().map(|c| c.accuracy_interval.hi).collect();
-                    p.add(FilledArea::new("95 % interval", &xs, &lo, &hi).fill_color(palette::band(palette::series(0))));
-                    p.line(Line::new("accuracy", PlotPoints::from_iter(curve.iter().map(|c| [c.x as f64, c.accuracy]))).color(palette::series(0)).width(2.0));
+                    p.add(FilledArea::new("95 % interval", &xs, &lo, &hi).fill_color(palette::band(palette::series(dark, 0))));
+                    p.line(Line::new("accuracy", PlotPoints::from_iter(curve.iter().map(|c| [c.x as f64, c.accuracy]))).color(palette::series(dark, 0)).width(2.0));
                     p.hline(HLine::new("coin toss (50 %)", 0.5).color(palette::neutral(dark)));
                 });
-            rect = Some(r.response.rect);
+            rect = Some(full);
             cols[1].label(RichText::new("Log loss (lower is better)").strong())
                 .on_hover_text("Log loss punishes confident wrong chances hard. The band is ±1.96 standard errors across sessions. The grey line is the loss of chances from the seat alone, before anything happened.");
             Plot::new("model-logloss")
@@ -92,8 +96,8 @@ impl ModelCheck {
                     let xs: Vec<f64> = curve.iter().map(|c| c.x as f64).collect();
                     let lo: Vec<f64> = curve.iter().map(|c| (c.log_loss - 1.96 * c.log_loss_se).max(0.0)).collect();
                     let hi: Vec<f64> = curve.iter().map(|c| c.log_loss + 1.96 * c.log_loss_se).collect();
-                    p.add(FilledArea::new("±1.96 SE", &xs, &lo, &hi).fill_color(palette::band(palette::series(1))));
-                    p.line(Line::new("log loss", PlotPoints::from_iter(curve.iter().map(|c| [c.x as f64, c.log_loss]))).color(palette::series(1)).width(2.0));
+                    p.add(FilledArea::new("±1.96 SE", &xs, &lo, &hi).fill_color(palette::band(palette::series(dark, 1))));
+                    p.line(Line::new("log loss", PlotPoints::from_iter(curve.iter().map(|c| [c.x as f64, c.log_loss]))).color(palette::series(dark, 1)).width(2.0));
                     if q.seat_only_log_loss.is_finite() {
                         p.hline(HLine::new("seat alone", q.seat_only_log_loss).color(palette::neutral(dark)));
                     }
@@ -116,10 +120,10 @@ impl ModelCheck {
                     for b in &q.reliability.bins {
                         if let (Some(x), Some(y)) = (b.mean_predicted, b.observed_rate) {
                             pts.push([x, y]);
-                            p.line(Line::new("95 % interval", PlotPoints::from(vec![[x, b.interval.lo], [x, b.interval.hi]])).color(palette::series(2)).width(1.5));
+                            p.line(Line::new("95 % interval", PlotPoints::from(vec![[x, b.interval.lo], [x, b.interval.hi]])).color(palette::series(dark, 2)).width(1.5));
                         }
                     }
-                    p.points(Points::new("observed", PlotPoints::from(pts)).shape(MarkerShape::Circle).radius(4.0).filled(true).color(palette::series(2)));
+                    p.points(Points::new("observed", PlotPoints::from(pts)).shape(MarkerShape::Circle).radius(4.0).filled(true).color(palette::series(dark, 2)));
                 });
             cols[1].label(RichText::new("Learning curve: would more sessions help?").strong())
                 .on_hover_text("Held-out log loss of models fitted on growing numbers of training sessions. Still falling at the right: more recorded sessions would sharpen the chances. Flat: more of the same would add little.");
@@ -130,8 +134,8 @@ impl ModelCheck {
                 .allow_scroll(false)
                 .show(&mut cols[1], |p| {
                     let pts: Vec<[f64; 2]> = t.learning_curve.iter().map(|l| [l.sessions as f64, l.log_loss]).collect();
-                    p.line(Line::new("held-out log loss", PlotPoints::from(pts.clone())).color(palette::series(3)).width(2.0));
-                    p.points(Points::new("measured", PlotPoints::from(pts)).radius(3.5).filled(true).color(palette::series(3)));
+                    p.line(Line::new("held-out log loss", PlotPoints::from(pts.clone())).color(palette::series(dark, 3)).width(2.0));
+                    p.points(Points::new("measured", PlotPoints::from(pts)).radius(3.5).filled(true).color(palette::series(dark, 3)));
                 });
         });
         ui.add_space(4.0);
@@ -159,6 +163,88 @@ impl ModelCheck {
                     });
             });
         rect
+    }
+
+    /// What a model file says about itself, as (what, value) rows: the training summary it was
+    /// saved with.
+    pub fn loaded_rows(loaded: &Loaded) -> Vec<[String; 2]> {
+        let m = &loaded.model;
+        let s = &m.summary;
+        let kind = match m.win.kind() {
+            ModelKind::Boosted => "boosted trees",
+            ModelKind::Logistic => "logistic regression",
+        };
+        let row = |a: &str, b: String| [a.to_string(), b];
+        vec![
+            row("model file", loaded.path.display().to_string()),
+            row(
+                "kind",
+                format!(
+                    "{kind}{}",
+                    if m.draw.is_some() {
+                        ", with a draw model"
+                    } else {
+                        ""
+                    }
+                ),
+            ),
+            row("how it was chosen", s.choice.clone()),
+            row("settings", s.settings.clone()),
+            row("trained on sets", s.sets.join(", ")),
+            row(
+                "training sessions",
+                format!("{} ({} turn rows)", s.trained_sessions, s.trained_rows),
+            ),
+            row("held-out test sessions", s.test_sessions.to_string()),
+            row("test log loss", opt(s.test_log_loss, 3)),
+            row(
+                "test: favourite won",
+                s.test_accuracy.map(pct).unwrap_or_else(|| "—".into()),
+            ),
+            row("feature columns", m.spec.width().to_string()),
+            row("seed", s.seed.to_string()),
+            row("written by", s.created_by.clone()),
+        ]
+    }
+
+    /// The view for a set scored with a model loaded from a file: what the file says about the
+    /// model, and which charts need a training run on this set. Returns true when the user asks
+    /// to train on the set instead.
+    pub fn loaded_ui(ui: &mut Ui, loaded: &Loaded, set: &str, scored: usize) -> bool {
+        let warn = palette::warn(ui.visuals().dark_mode);
+        ui.label(
+            RichText::new(format!("{set} is scored with a model loaded from a file")).strong(),
+        );
+        ui.label(format!(
+            "{scored} sessions were given win chances by this model; nothing was trained on {set}."
+        ));
+        ui.add_space(4.0);
+        ui.label(RichText::new("What the model file records about its training").strong())
+            .on_hover_text("The training summary saved in the model file when it was trained. The held-out figures were measured on sessions of the sets it was trained on, not on this set.");
+        egui::Grid::new("loaded-model")
+            .striped(true)
+            .show(ui, |ui| {
+                for [a, b] in Self::loaded_rows(loaded) {
+                    ui.label(a);
+                    ui.label(b);
+                    ui.end_row();
+                }
+            });
+        for note in &loaded.model.summary.notes {
+            ui.label(RichText::new(format!("Note: {note}")).color(warn));
+        }
+        if loaded.model.summary.sets.iter().any(|s| s == set) {
+            ui.label(RichText::new(format!("The model was trained on a set also named {set}: if these are the same sessions, the model has seen them, and its chances here look more certain than they would on new sessions.")).color(warn));
+        }
+        ui.add_space(6.0);
+        ui.label(RichText::new("Needs a training run on this set").strong());
+        ui.label("• here: accuracy and log loss by turn, the calibration chart, the learning curve and the candidates tried;");
+        ui.label("• the Fairness view and the What-swings-games view.");
+        ui.label("They measure how well chances predict this set's outcomes using sessions the model never saw, which only a training run on this set gives. The Roster, Replay and When-decided views already use the loaded model's chances.");
+        ui.add_space(4.0);
+        ui.button("Train on this set")
+            .on_hover_text("Train a model on this set's finished sessions (in the background) and use it instead of the loaded one")
+            .clicked()
     }
 
     /// The metrics rows as (name, out-of-fold, test share, meaning).

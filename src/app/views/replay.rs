@@ -58,8 +58,7 @@ pub fn source_words(source: TraceSource) -> String {
             "held-out test session: the final model never saw it while learning".into()
         }
         TraceSource::Scored => {
-            "scored by the trained model (the session is in progress or was not part of training)"
-                .into()
+            "scored by the model in use: one loaded from a file, or the one trained here for a session that was not part of training (e.g. still in progress)".into()
         }
     }
 }
@@ -128,7 +127,7 @@ impl Replay {
                     ui.label(
                         RichText::new("· in progress")
                             .strong()
-                            .color(palette::warn()),
+                            .color(palette::warn(dark)),
                     );
                 }
             }
@@ -186,6 +185,7 @@ impl Replay {
         threshold: f64,
     ) {
         let last = trace.len() - 1;
+        let dark = ui.visuals().dark_mode;
         if !session.is_finished() {
             ui.horizontal_wrapped(|ui| {
                 ui.label(
@@ -199,7 +199,7 @@ impl Replay {
                             session.actors[a],
                             pct(trace.chance(last, a))
                         ))
-                        .color(palette::series(a))
+                        .color(palette::series(dark, a))
                         .size(18.0),
                     );
                 }
@@ -260,18 +260,20 @@ impl Replay {
     ) -> egui::Rect {
         let first_x = trace.turns.first().map_or(0.0, |&t| t as f64 - 1.0);
         let height = (ui.available_height() - 120.0).clamp(220.0, 520.0);
-        let resp = Plot::new("replay-chart")
-            .height(height)
-            .include_y(0.0)
-            .include_y(1.0)
-            .x_axis_label("turn")
-            .y_axis_label("win chance")
-            .y_axis_formatter(|m, _| format!("{:.0} %", 100.0 * m.value))
-            .legend(Legend::default())
-            .allow_scroll(false)
-            .show_x(false)
-            .show_y(false)
-            .show(ui, |p| {
+        let (resp, full) = super::show_plot(
+            ui,
+            Plot::new("replay-chart")
+                .height(height)
+                .include_y(0.0)
+                .include_y(1.0)
+                .x_axis_label("turn")
+                .y_axis_label("win chance")
+                .y_axis_formatter(|m, _| format!("{:.0} %", 100.0 * m.value))
+                .legend(Legend::default())
+                .allow_scroll(false)
+                .show_x(false)
+                .show_y(false),
+            |p| {
                 p.hline(
                     HLine::new(format!("threshold {}", pct(threshold)), threshold)
                         .color(palette::rule(dark))
@@ -293,7 +295,7 @@ impl Replay {
                             format!("turn in focus ({})", trace.turns[i]),
                             trace.turns[i] as f64,
                         )
-                        .color(palette::focus())
+                        .color(palette::focus(dark))
                         .width(1.5)
                         .style(egui_plot::LineStyle::Dotted { spacing: 4.0 }),
                     );
@@ -305,7 +307,7 @@ impl Replay {
                     );
                     p.line(
                         Line::new(session.actors[a].clone(), PlotPoints::from(pts))
-                            .color(palette::series(a))
+                            .color(palette::series(dark, a))
                             .style(palette::dash(a))
                             .width(2.0),
                     );
@@ -322,7 +324,8 @@ impl Replay {
                         .color(if dark { Color32::WHITE } else { Color32::BLACK }),
                 );
                 p.pointer_coordinate()
-            });
+            },
+        );
         let nearest = |x: f64| {
             (0..trace.len())
                 .min_by(|&a, &b| {
@@ -340,7 +343,7 @@ impl Replay {
                 for a in 0..trace.actors {
                     let s = trace.swing(i, a);
                     ui.colored_label(
-                        palette::series(a),
+                        palette::series(dark, a),
                         format!(
                             "{} {} ({:+.0} points)",
                             session.actors[a],
@@ -363,7 +366,7 @@ impl Replay {
                 self.focus_turn(i);
             }
         }
-        resp.response.rect
+        full
     }
 
     fn swing_list(
@@ -416,6 +419,7 @@ impl Replay {
         trace: Option<&Trace>,
         set: &SessionSet,
     ) {
+        let dark = ui.visuals().dark_mode;
         ui.label(RichText::new("Event log").strong()).on_hover_text(
             "Every logged action of this session. Click a row to mark its turn on the chart.",
         );
@@ -477,7 +481,7 @@ impl Replay {
                     e.detail.to_string(),
                 ];
                 let selected = focus_turn == Some(e.turn);
-                let colour = e.actor.map(|a| palette::series(a as usize));
+                let colour = e.actor.map(|a| palette::series(dark, a as usize));
                 let label = format!("turn {} {} {} {}", cells[0], cells[1], cells[2], cells[3]);
                 let resp =
                     table::row_coloured(ui, &columns, &cells, EVENT_ROW, selected, &label, colour);

@@ -120,10 +120,11 @@ fn cells(set: &SessionSet, facts: &[SessionFacts], k: usize) -> Vec<String> {
         s.winner_name().to_string(),
         s.victory().unwrap_or("").to_string(),
         s.turn_count().to_string(),
+        // "never" only once there are chances to judge by: before training it is unknown.
         match (s.is_finished(), f.and_then(|f| f.decided_turn)) {
             (_, Some(t)) => t.to_string(),
-            (true, None) => "never".to_string(),
-            (false, None) => String::new(),
+            (true, None) if f.is_some_and(|f| f.trace.is_some()) => "never".to_string(),
+            _ => String::new(),
         },
         f.and_then(|f| f.settled_share)
             .map(|x| format!("{:.0} %", 100.0 * x))
@@ -187,8 +188,16 @@ fn natural(a: &str, b: &str) -> Ordering {
 }
 
 impl Roster {
-    /// The rows in display order (after filtering and sorting), for CSV export.
-    pub fn csv(&self, set: &SessionSet, facts: &[SessionFacts]) -> String {
+    /// The rows in display order (after filtering and sorting), for CSV export. The order is
+    /// brought up to date first: the set may have changed since the table was last drawn.
+    pub fn csv(
+        &mut self,
+        set: &SessionSet,
+        facts: &[SessionFacts],
+        set_id: u64,
+        generation: u64,
+    ) -> String {
+        self.refresh(set, facts, set_id, generation);
         let headers: Vec<&str> = COLUMNS.iter().map(|c| c.title).collect();
         table::to_csv(&headers, self.order.iter().map(|&k| cells(set, facts, k)))
     }

@@ -106,20 +106,23 @@ impl SideBySide {
     ) -> Option<egui::Rect> {
         let (a, b) = names;
         let mut rect = None;
+        let dark = ui.visuals().dark_mode;
         ui.label(RichText::new(format!("When were games decided? {a} against {b} at {:.0} %", 100.0 * threshold)).strong())
             .on_hover_text("Each line climbs as sessions get decided: its height at a turn is the share of that set's finished sessions already decided by then. A line further right means games stay open longer; a lower end means more games were never decided before the end.");
         if let (Some(da), Some(db)) = decisions {
             let h = (ui.available_height() * 0.42).clamp(180.0, 340.0);
-            let resp = Plot::new("compare-decided")
-                .height(h)
-                .include_y(0.0)
-                .include_y(1.0)
-                .x_axis_label("decided turn")
-                .y_axis_label("share of sessions decided")
-                .y_axis_formatter(|m, _| format!("{:.0} %", 100.0 * m.value))
-                .legend(Legend::default())
-                .allow_scroll(false)
-                .show(ui, |p| {
+            let (_, full) = super::show_plot(
+                ui,
+                Plot::new("compare-decided")
+                    .height(h)
+                    .include_y(0.0)
+                    .include_y(1.0)
+                    .x_axis_label("decided turn")
+                    .y_axis_label("share of sessions decided")
+                    .y_axis_formatter(|m, _| format!("{:.0} %", 100.0 * m.value))
+                    .legend(Legend::default())
+                    .allow_scroll(false),
+                |p| {
                     for (i, (name, d)) in [(a, da), (b, db)].into_iter().enumerate() {
                         let pts = cumulative(d);
                         let mut stepped = Vec::with_capacity(pts.len() * 2);
@@ -135,13 +138,14 @@ impl SideBySide {
                                 format!("{name} ({} sessions)", d.decisions.sessions.len()),
                                 PlotPoints::from(stepped),
                             )
-                            .color(palette::series(i))
+                            .color(palette::series(dark, i))
                             .style(palette::dash(i))
                             .width(2.5),
                         );
                     }
-                });
-            rect = Some(resp.response.rect);
+                },
+            );
+            rect = Some(full);
         } else {
             ui.label("Waiting for both sets to finish training…");
         }
@@ -156,7 +160,7 @@ impl SideBySide {
             Some(Err(e)) => {
                 ui.label(
                     RichText::new(format!("The comparison could not be made: {e}"))
-                        .color(palette::warn()),
+                        .color(palette::warn(dark)),
                 );
             }
             Some(Ok(c)) => {
@@ -188,7 +192,7 @@ impl SideBySide {
                         .on_hover_text("The number of sessions per variant needed to tell the two first-mover win rates apart 8 times in 10 (two-sided 5 % test).");
                     ui.label(&c.sessions_needed.verdict);
                     if c.a.not_out_of_fold > 0 || c.b.not_out_of_fold > 0 {
-                        ui.label(RichText::new("Some traces were scored by a model that saw those sessions; their chances look more certain than they would on new sessions.").color(palette::warn()));
+                        ui.label(RichText::new("Some traces were scored by a model that saw those sessions; their chances look more certain than they would on new sessions.").color(palette::warn(dark)));
                     }
                 });
             }

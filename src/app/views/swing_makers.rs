@@ -93,10 +93,43 @@ fn cells(i: &ImpactItem) -> Vec<String> {
 }
 
 impl SwingMakers {
-    /// The impact table as CSV.
-    pub fn csv(impact: &EventImpact) -> String {
+    /// The impact table as CSV: the rows shown (detail words only when they are included), in
+    /// the order shown.
+    pub fn csv(&self, impact: &EventImpact) -> String {
         let headers: Vec<&str> = COLUMNS.iter().map(|c| c.title).collect();
-        table::to_csv(&headers, impact.items.iter().map(cells))
+        table::to_csv(&headers, self.shown(impact).into_iter().map(cells))
+    }
+
+    /// The items the table shows, filtered and sorted as chosen.
+    fn shown<'a>(&self, impact: &'a EventImpact) -> Vec<&'a ImpactItem> {
+        let mut items: Vec<&ImpactItem> = impact
+            .items
+            .iter()
+            .filter(|i| self.words || i.kind == ItemKind::Label)
+            .collect();
+        let col = self.sort.column;
+        items.sort_by(|a, b| {
+            let o = match col {
+                0 => a.name.cmp(&b.name),
+                1 => a.kind.cmp(&b.kind),
+                2 => a.occurrences.cmp(&b.occurrences),
+                3 => a.sessions.cmp(&b.sessions),
+                4 => a
+                    .mean_swing
+                    .unwrap_or(f64::NEG_INFINITY)
+                    .total_cmp(&b.mean_swing.unwrap_or(f64::NEG_INFINITY)),
+                5 => a
+                    .interval
+                    .map_or(f64::NEG_INFINITY, |v| v.lo)
+                    .total_cmp(&b.interval.map_or(f64::NEG_INFINITY, |v| v.lo)),
+                _ => a
+                    .win_share
+                    .unwrap_or(-1.0)
+                    .total_cmp(&b.win_share.unwrap_or(-1.0)),
+            };
+            if self.sort.ascending { o } else { o.reverse() }
+        });
+        items
     }
 
     /// Draw the view; returns the leverage chart's rectangle.
@@ -122,16 +155,18 @@ impl SwingMakers {
                         "Flagged turns (at least {:.1}× the swing of the turns around them): {}",
                         l.params.factor,
                         l.quirk_turns.iter().map(|t| t.to_string()).collect::<Vec<_>>().join(", ")
-                    )).color(palette::warn()));
+                    )).color(palette::warn(dark)));
                 }
-                let resp = Plot::new("leverage")
-                    .height(200.0)
-                    .include_y(0.0)
-                    .x_axis_label("turn")
-                    .y_axis_label("leverage")
-                    .legend(Legend::default())
-                    .allow_scroll(false)
-                    .show(ui, |p| {
+                let (_, full) = super::show_plot(
+                    ui,
+                    Plot::new("leverage")
+                        .height(200.0)
+                        .include_y(0.0)
+                        .x_axis_label("turn")
+                        .y_axis_label("leverage")
+                        .legend(Legend::default())
+                        .allow_scroll(false),
+                    |p| {
                         let (quirk, plain): (Vec<_>, Vec<_>) = l.rows.iter().partition(|r| r.quirk);
                         let bar = |r: &&tellturn::analysis::swings::LeverageRow| {
                             Bar::new(r.turn as f64, r.leverage).width(0.8).name(format!(
@@ -141,12 +176,12 @@ impl SwingMakers {
                         };
                         p.bar_chart(
                             BarChart::new("turns", plain.iter().map(bar).collect())
-                                .color(palette::series(0))
+                                .color(palette::series(dark, 0))
                                 .element_formatter(Box::new(|b, _| b.name.clone())),
                         );
                         p.bar_chart(
                             BarChart::new("flagged turns", quirk.iter().map(bar).collect())
-                                .color(palette::series(4))
+                                .color(palette::series(dark, 4))
                                 .element_formatter(Box::new(|b, _| b.name.clone())),
                         );
                         p.hline(
@@ -154,8 +189,9 @@ impl SwingMakers {
                                 .color(palette::neutral(dark))
                                 .style(egui_plot::LineStyle::Dashed { length: 6.0 }),
                         );
-                    });
-                rect = Some(resp.response.rect);
+                    },
+                );
+                rect = Some(full);
             }
         }
         ui.add_space(6.0);
@@ -169,37 +205,11 @@ impl SwingMakers {
                 ui.label(format!("Event impact not available: {e}"));
             }
             Ok(imp) => {
+                let items = self.shown(imp);
                 ui.small(format!(
-                    "{} finished sessions · intervals from {} bootstrap resamples of whole sessions · {} rare items (in fewer than {} sessions) left out",
-                    imp.sessions, imp.params.bootstrap.resamples, imp.rare_items, imp.params.min_sessions
+                    "{} of {} items shown · {} finished sessions · intervals from {} bootstrap resamples of whole sessions · {} rare items (in fewer than {} sessions) left out",
+                    items.len(), imp.items.len(), imp.sessions, imp.params.bootstrap.resamples, imp.rare_items, imp.params.min_sessions
                 ));
-                let mut items: Vec<&ImpactItem> = imp
-                    .items
-                    .iter()
-                    .filter(|i| self.words || i.kind == ItemKind::Label)
-                    .collect();
-                let col = self.sort.column;
-                items.sort_by(|a, b| {
-                    let o = match col {
-                        0 => a.name.cmp(&b.name),
-                        1 => a.kind.cmp(&b.kind),
-                        2 => a.occurrences.cmp(&b.occurrences),
-                        3 => a.sessions.cmp(&b.sessions),
-                        4 => a
-                            .mean_swing
-                            .unwrap_or(f64::NEG_INFINITY)
-                            .total_cmp(&b.mean_swing.unwrap_or(f64::NEG_INFINITY)),
-                        5 => a
-                            .interval
-                            .map_or(f64::NEG_INFINITY, |v| v.lo)
-                            .total_cmp(&b.interval.map_or(f64::NEG_INFINITY, |v| v.lo)),
-                        _ => a
-                            .win_share
-                            .unwrap_or(-1.0)
-                            .total_cmp(&b.win_share.unwrap_or(-1.0)),
-                    };
-                    if self.sort.ascending { o } else { o.reverse() }
-                });
                 egui::ScrollArea::horizontal()
                     .id_salt("impact-h")
                     .show(ui, |ui| {
