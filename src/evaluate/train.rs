@@ -67,7 +67,7 @@ impl Default for TrainOptions {
             boosted: BoostedParams::default(),
             cross_fit: true,
             learning_curve: true,
-            max_rows: 1_500_000,
+            max_rows: 1_000_000,
         }
     }
 }

@@ -38,7 +38,7 @@ pub struct BoostedParams {
 impl Default for BoostedParams {
     fn default() -> Self {
         Self {
-            max_rounds: 500,
+            max_rounds: 1000,
             learning_rate: 0.1,
             max_leaves: 31,
             max_depth: None,
