@@ -236,3 +236,50 @@ fn ctrl_c_stops_a_report_and_leaves_no_output() {
     assert!(leftovers.is_empty(), "{leftovers:?}");
     let _ = std::fs::remove_dir_all(&out);
 }
+
+#[test]
+fn a_report_cancelled_while_its_files_are_written_leaves_none_of_them() {
+    use tellturn::progress::{Cancel, NoProgress, Progress};
+    use tellturn::study::{StudyOptions, run_study};
+    // Cancels as soon as the first file has been written out (the second "writing report").
+    struct CancelAfterFirstFile(Cancel);
+    impl Progress for CancelAfterFirstFile {
+        fn report(&self, stage: &str, fraction: f64) {
+            if stage == "writing report" && fraction > 0.0 {
+                self.0.cancel();
+            }
+        }
+    }
+    let repo = Path::new(env!("CARGO_MANIFEST_DIR"));
+    let set = tellturn::sessions::load_set(&repo.join("sample_sessions/vessmire-weekend"));
+    let options = StudyOptions {
+        bootstrap: 50,
+        ..StudyOptions::default()
+    };
+    let study = run_study(vec![set], vec![], &options, &NoProgress, &Cancel::new()).unwrap();
+    let root = scratch("cancel-writing");
+    // A new folder: removed again. An existing folder with an earlier report: left as it was.
+    let fresh = root.join("fresh");
+    let cancel = Cancel::new();
+    let r = tellturn::report::write_report(
+        &study,
+        &fresh,
+        &CancelAfterFirstFile(cancel.clone()),
+        &cancel,
+    );
+    assert!(r.is_err());
+    assert!(!fresh.exists(), "the new folder stays behind");
+    let earlier = root.join("earlier");
+    tellturn::report::write_report(&study, &earlier, &NoProgress, &Cancel::new()).unwrap();
+    let before = stamp(&earlier);
+    let cancel = Cancel::new();
+    let r = tellturn::report::write_report(
+        &study,
+        &earlier,
+        &CancelAfterFirstFile(cancel.clone()),
+        &cancel,
+    );
+    assert!(r.is_err());
+    assert_eq!(stamp(&earlier), before, "an earlier report was changed");
+    let _ = std::fs::remove_dir_all(&root);
+}

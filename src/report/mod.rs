@@ -7,7 +7,7 @@ pub mod html;
 pub mod svg;
 pub mod tables;
 
-use crate::atomic::write_atomic_with;
+use crate::atomic::StagedFiles;
 use crate::progress::{Cancel, Cancelled, Progress};
 use crate::study::Study;
 use std::path::{Path, PathBuf};
@@ -101,10 +101,26 @@ pub fn write_report(
 ) -> Result<Vec<PathBuf>, ReportError> {
     let roots: Vec<PathBuf> = study.sets.iter().map(|s| s.root.clone()).collect();
     check_output_dir(&roots, out)?;
+    let created = !out.exists();
     std::fs::create_dir_all(out).map_err(|source| ReportError::Io {
         path: out.to_path_buf(),
         source,
     })?;
+    let result = write_files(study, out, progress, cancel);
+    if result.is_err() && created {
+        // Only removes the folder when it is still empty (nothing of ours was committed).
+        let _ = std::fs::remove_dir(out);
+    }
+    result
+}
+
+/// The six files, staged and committed together.
+fn write_files(
+    study: &Study,
+    out: &Path,
+    progress: &dyn Progress,
+    cancel: &Cancel,
+) -> Result<Vec<PathBuf>, ReportError> {
     type Writer = fn(&Study, &mut dyn std::io::Write) -> std::io::Result<()>;
     let writers: [(&str, Writer); 6] = [
         ("report.html", |s, w| {
@@ -116,17 +132,25 @@ pub fn write_report(
         ("turn_accuracy.csv", tables::turn_accuracy),
         ("event_impact.csv", tables::event_impact),
     ];
-    let mut written = Vec::new();
+    // All six files are staged and renamed together only once every one is complete and no
+    // cancel came: an interrupted report leaves no new file at all.
+    let mut staged = StagedFiles::new();
     for (i, (name, write)) in writers.iter().enumerate() {
         cancel.check()?;
         progress.report("writing report", i as f64 / writers.len() as f64);
         let path = out.join(name);
-        write_atomic_with(&path, |w| write(study, w)).map_err(|source| ReportError::Io {
-            path: path.clone(),
-            source,
-        })?;
-        written.push(path);
+        staged
+            .stage(&path, |w| write(study, w))
+            .map_err(|source| ReportError::Io {
+                path: path.clone(),
+                source,
+            })?;
     }
+    cancel.check()?;
+    let written = staged.commit().map_err(|source| ReportError::Io {
+        path: out.to_path_buf(),
+        source,
+    })?;
     progress.report("writing report", 1.0);
     Ok(written)
 }
