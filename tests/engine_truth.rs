@@ -119,3 +119,42 @@ fn out_of_fold_chances_are_close_to_the_simulators_truth_and_calibrated() {
     // Calibration: the engine issue's bar (ECE ≤ 0.02); measured 0.008, the truth's own 0.014.
     assert!(ece <= 0.02, "ECE {ece}");
 }
+
+#[test]
+fn a_value_cap_samples_turns_deterministically_and_says_so() {
+    // 120 sessions with a cap of a quarter of their feature values: about one turn in four is
+    // used to fit, the output says so, every turn is still scored, and the same seed gives
+    // the same model.
+    let (_dir, set) = demo_set("A", 120, 31);
+    let options = TrainOptions {
+        cross_fit: false,
+        learning_curve: false,
+        ..TrainOptions::default()
+    };
+    let full = train(&[&set], &options, &NoProgress, &Cancel::new()).unwrap();
+    assert_eq!(full.sampled_one_in, None);
+    let width = full.model.spec.width();
+    let capped = TrainOptions {
+        max_values: full.model.summary.trained_rows * width / 4,
+        ..options
+    };
+    let a = train(&[&set], &capped, &NoProgress, &Cancel::new()).unwrap();
+    let b = train(&[&set], &capped, &NoProgress, &Cancel::new()).unwrap();
+    let every = a.sampled_one_in.expect("sampled");
+    assert!((4..=5).contains(&every), "one in {every}");
+    let used = a.model.summary.trained_rows as f64 / full.model.summary.trained_rows as f64;
+    assert!((0.15..0.35).contains(&used), "used share {used}");
+    assert!(
+        a.notes
+            .iter()
+            .any(|n| n.contains(&format!("one turn in {every}")))
+    );
+    let turns = |t: &tellturn::evaluate::train::Training| -> usize {
+        t.traces.iter().map(|tr| tr.turns.len()).sum()
+    };
+    assert_eq!(turns(&a), turns(&full), "every turn is still scored");
+    assert_eq!(
+        serde_json::to_string(&a.model).unwrap(),
+        serde_json::to_string(&b.model).unwrap()
+    );
+}

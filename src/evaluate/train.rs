@@ -52,8 +52,10 @@ pub struct TrainOptions {
     pub cross_fit: bool,
     /// Measure held-out log loss against the number of training sessions.
     pub learning_curve: bool,
-    /// Most turn rows used to fit one model; beyond it turns are sampled deterministically.
-    pub max_rows: usize,
+    /// Most feature values (turn rows × feature columns) used to fit one model; beyond it
+    /// turns are sampled deterministically. Memory follows values, not rows: a game with few
+    /// event labels has narrow rows and can use more of them.
+    pub max_values: usize,
 }
 
 impl Default for TrainOptions {
@@ -67,7 +69,9 @@ impl Default for TrainOptions {
             boosted: BoostedParams::default(),
             cross_fit: true,
             learning_curve: true,
-            max_rows: 1_000_000,
+            // About 0.8 GB of table values; with binning, tuning folds and traces a
+            // 50,000-session board-game set stays under 4 GB.
+            max_values: 200_000_000,
         }
     }
 }
@@ -507,12 +511,13 @@ pub fn train(
             s.turn_count() * s.actors.len()
         })
         .sum();
-    let sampled_one_in =
-        (rows > options.max_rows).then(|| rows.div_ceil(options.max_rows.max(1)) as u32);
+    let width = spec.width().max(1);
+    let max_rows = (options.max_values / width).max(1);
+    let sampled_one_in = (rows > max_rows).then(|| rows.div_ceil(max_rows) as u32);
     let sample = match sampled_one_in {
         Some(every) => {
             notes.push(format!(
-                "the training sessions have {rows} turn rows; to stay within memory, models were fitted on about one turn in {every} (chosen by a seeded hash, the same every run); every turn is still scored"
+                "the training sessions have {rows} turn rows × {width} features; to stay within memory, models were fitted on about one turn in {every} (chosen by a seeded hash, the same every run); every turn is still scored"
             ));
             TurnSample::OneIn {
                 every,
