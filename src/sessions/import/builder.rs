@@ -135,7 +135,8 @@ impl SetBuilder {
         Some(i)
     }
 
-    fn label(&mut self, name: &str) -> u32 {
+    /// The index of event label `name` (created on first use); `line` is where it was read.
+    fn label(&mut self, name: &str, line: u64) -> u32 {
         if let Some(&i) = self.label_index.get(name) {
             return i;
         }
@@ -147,9 +148,19 @@ impl SetBuilder {
                 format!(
                     "more than {MAX_EVENT_LABELS} distinct event labels; later new labels are counted as `{OTHER_LABEL}`"
                 ),
-            );
+            )
+            .at_line(line)
+            .in_column("event");
             self.warn(p);
-            return self.label(OTHER_LABEL);
+            // The merged label takes the one slot past the cap (asking `label` for it again
+            // would find the cap reached and never return).
+            if let Some(&i) = self.label_index.get(OTHER_LABEL) {
+                return i;
+            }
+            let i = self.labels.len() as u32;
+            self.labels.push(OTHER_LABEL.to_string());
+            self.label_index.insert(OTHER_LABEL.to_string(), i);
+            return i;
         }
         let i = self.labels.len() as u32;
         self.labels.push(name.to_string());
@@ -302,9 +313,9 @@ impl SetBuilder {
             .in_column("event")
             .for_session(id);
             self.warn(p);
-            self.label("(blank)")
+            self.label("(blank)", raw.line)
         } else {
-            self.label(label_text)
+            self.label(label_text, raw.line)
         };
         let mut state = Vec::new();
         for &(col, value) in raw.state {

@@ -1,0 +1,80 @@
+//! Inputs that once crashed, hung or exhausted the loaders, replayed through the code the fuzz
+//! targets run (tests/common/fuzz_checks.rs; the targets are in fuzz/, see DEVELOPERS.md,
+//! "Fuzzing"). Each test fails if the input panics again, or if the problem it must produce
+//! is no longer reported with its file, line and what was expected.
+
+#[path = "common/fuzz_checks.rs"]
+mod fuzz_checks;
+
+use std::path::Path;
+use std::sync::mpsc;
+use std::time::Duration;
+use tellturn::sessions::limits::{MAX_EVENT_LABELS, OTHER_LABEL};
+use tellturn::sessions::{Problem, SessionSet};
+
+fn problems<'a>(set: &'a SessionSet, kind: &str) -> Vec<&'a Problem> {
+    set.problems.iter().filter(|p| p.kind == kind).collect()
+}
+
+/// Run `f` on its own thread and fail the test if it has not returned after `seconds` (a hang
+/// would otherwise hold the whole test run; the thread is left behind when the test fails).
+fn within<T: Send + 'static>(seconds: u64, f: impl FnOnce() -> T + Send + 'static) -> T {
+    let (send, receive) = mpsc::channel();
+    std::thread::spawn(move || send.send(f()));
+    match receive.recv_timeout(Duration::from_secs(seconds)) {
+        Ok(value) => value,
+        Err(mpsc::RecvTimeoutError::Timeout) => panic!("still running after {seconds} s"),
+        Err(mpsc::RecvTimeoutError::Disconnected) => panic!("the loader panicked"),
+    }
+}
+
+/// A set of two finished sessions in which session `b` uses `labels` distinct event labels.
+fn many_labels_csv(labels: usize) -> Vec<u8> {
+    let mut events = String::from("session,turn,actor,event\na,1,Ama,open\na,2,Bex,open\n");
+    for i in 0..labels {
+        events.push_str(&format!("b,{},{},label{i}\n", i + 1, ["Ama", "Bex"][i % 2]));
+    }
+    let mut data = events.into_bytes();
+    data.push(fuzz_checks::OUTCOMES_SEPARATOR);
+    data.extend_from_slice(b"session,winner\na,Ama\nb,Bex\n");
+    data
+}
+
+/// Found by reading the label cap while writing the fuzz targets (no fuzz input is large
+/// enough to reach it): the first label past [`MAX_EVENT_LABELS`] asked for the merged label
+/// through the same capped lookup, which called itself until the stack overflowed and the
+/// process aborted.
+#[test]
+fn labels_past_the_cap_are_merged_into_one_label() {
+    let data = many_labels_csv(MAX_EVENT_LABELS + 10);
+    let set = within(60, move || fuzz_checks::run_csv(&data));
+    assert!(set.is_usable(), "{:#?}", set.problems);
+    assert_eq!(set.finished().count(), 2);
+    // `open` and label0 … label4094 fill the cap; the merged label is the one past it.
+    assert_eq!(set.labels.len(), MAX_EVENT_LABELS + 1);
+    assert_eq!(set.labels.last().map(String::as_str), Some(OTHER_LABEL));
+    let b = set
+        .sessions
+        .iter()
+        .find(|s| s.id == "b")
+        .expect("session b");
+    let merged = b
+        .events
+        .iter()
+        .filter(|e| set.label(e) == OTHER_LABEL)
+        .count();
+    assert_eq!(merged, 11);
+    let warned = problems(&set, "too_many_labels");
+    assert!(!warned.is_empty());
+    assert_eq!(warned[0].file, Path::new("events.csv"));
+    // Header, two rows of `a`, then `b`'s label0 on line 4: label4095 is on line 4099.
+    assert_eq!(warned[0].line, Some(4099));
+    assert_eq!(warned[0].column.as_deref(), Some("event"));
+    assert!(
+        warned[0]
+            .message
+            .contains("more than 4096 distinct event labels"),
+        "{}",
+        warned[0].message
+    );
+}
