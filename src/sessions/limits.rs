@@ -16,6 +16,9 @@ pub const MAX_SESSIONS: usize = 1_000_000;
 pub const MAX_EVENT_ROWS: u64 = 100_000_000;
 /// Most distinct event labels in one set (later new labels are merged into one).
 pub const MAX_EVENT_LABELS: usize = 4_096;
+/// Most columns read from a header (later columns are ignored): the known columns and
+/// [`MAX_STATE_COLUMNS`] state columns fit many times over.
+pub const MAX_COLUMNS: usize = 1_024;
 /// Most numeric state columns in one set (later columns are ignored).
 pub const MAX_STATE_COLUMNS: usize = 64;
 /// Largest turn number accepted.
