@@ -9,6 +9,7 @@ mod fuzz_checks;
 use std::path::Path;
 use std::sync::mpsc;
 use std::time::Duration;
+use tellturn::models::file::ModelFileError;
 use tellturn::models::win_model::Fitted;
 use tellturn::sessions::limits::{MAX_EVENT_LABELS, OTHER_LABEL};
 use tellturn::sessions::{Problem, SessionSet};
@@ -102,4 +103,88 @@ fn a_model_file_loads_its_numbers_exactly() {
     };
     let exact: f64 = "0.409453603807854864".parse().expect("a number");
     assert_eq!(trees.trees[0].leaf_values[5], exact);
+}
+
+/// A model file holding a logistic model over the six columns every feature spec has.
+fn logistic_model_file(coefficients: [f64; 6], scales: [f64; 6], impute: [f64; 6]) -> Vec<u8> {
+    serde_json::to_vec(&serde_json::json!({
+        "format": "tellturn-model",
+        "version": 1,
+        "model": {
+            "spec": {
+                "params": {"window": 5, "min_token_sessions": 5, "max_tokens": 0, "max_labels": 0},
+                "labels": [], "tokens": [], "tokens_before_pruning": 0, "labels_before_cap": 0,
+                "state_columns": [], "multi_actor": false
+            },
+            "win": {"logistic": {
+                "means": [0.0, 0.0, 0.0, 0.0, 0.0, 0.0], "scales": scales, "impute": impute,
+                "estimated": [true, true, true, true, true, true],
+                "coefficients": coefficients, "intercept": 0.1, "l2": 1.0,
+                "iterations": 3, "converged": true
+            }},
+            "draw": null,
+            "summary": {
+                "created_by": "", "sets": [], "trained_sessions": 0, "trained_rows": 0,
+                "test_sessions": 0, "seed": 1, "choice": "", "settings": "", "notes": []
+            }
+        }
+    }))
+    .expect("JSON")
+}
+
+fn invalid_reason(bytes: &[u8]) -> String {
+    match fuzz_checks::run_model(bytes) {
+        Err(ModelFileError::Invalid { reason, .. }) => reason,
+        other => panic!("expected an inconsistent model, got {other:?}"),
+    }
+}
+
+/// Found while writing the model_file target's check: a logistic model with a finite but
+/// tiny scale (or a huge coefficient) passed validation, and its coefficient on the feature
+/// scale (coefficient / scale) was infinite, so its raw chances were NaN: as the win model it
+/// silently gave every actor the same chance, as the draw model it made every chance NaN.
+#[test]
+fn a_logistic_model_whose_chances_would_be_nan_is_refused() {
+    let usual = fuzz_checks::run_model(&logistic_model_file([0.5; 6], [1.0; 6], [0.0; 6]));
+    assert!(usual.is_ok(), "{usual:?}");
+    let tiny_scale = [1e-310, 1.0, 1.0, 1.0, 1.0, 1.0];
+    let reason = invalid_reason(&logistic_model_file([0.5; 6], tiny_scale, [0.0; 6]));
+    assert!(
+        reason.starts_with("win model: column 0 has coefficient 0.5 at scale 1e-310"),
+        "{reason}"
+    );
+    assert!(reason.contains("on the feature scale"), "{reason}");
+    let huge = [1e300, 0.5, 0.5, 0.5, 0.5, 0.5];
+    let reason = invalid_reason(&logistic_model_file(huge, [1e-10; 6], [0.0; 6]));
+    assert!(reason.contains("column 0 has coefficient"), "{reason}");
+    let fill_in = [0.0, 0.0, 1e300, 0.0, 0.0, 0.0];
+    let reason = invalid_reason(&logistic_model_file([0.5; 6], [1.0; 6], fill_in));
+    assert!(
+        reason.contains("column 2 fills in missing values with 1e300"),
+        "{reason}"
+    );
+}
+
+/// Found while writing the import targets' checks: a state value beyond the 32-bit range
+/// (`1e39`) was accepted as finite and became infinite in the feature table.
+#[test]
+fn a_state_value_too_large_for_a_feature_is_ignored_with_a_warning() {
+    let data =
+        b"session,turn,actor,event,score\ns,1,Ama,go,1e39\ns,1,Bex,go,2\n\0session,winner\ns,Ama\n";
+    let set = fuzz_checks::run_csv(data);
+    let found = problems(&set, "out_of_range");
+    assert_eq!(found.len(), 1, "{:#?}", set.problems);
+    assert_eq!(found[0].line, Some(2));
+    assert_eq!(found[0].column.as_deref(), Some("score"));
+    assert!(
+        found[0]
+            .message
+            .starts_with("`1e39` in column `score` is larger than 3.4028234663852886e38"),
+        "{}",
+        found[0].message
+    );
+    let s = &set.sessions[0];
+    assert!(s.events[0].state.is_empty(), "the value is ignored");
+    assert_eq!(s.events[1].state.len(), 1, "the next value is kept");
+    assert!(s.is_finished());
 }

@@ -7,6 +7,8 @@
 #![allow(dead_code)]
 
 use std::path::Path;
+use tellturn::features::start_table;
+use tellturn::models::Matrix;
 use tellturn::models::file::{MODEL_FORMAT, MODEL_VERSION, ModelFileError, model_from_bytes};
 use tellturn::models::win_model::WinModel;
 use tellturn::sessions::limits::{
@@ -59,9 +61,22 @@ pub fn run_model(data: &[u8]) -> Result<WinModel, ModelFileError> {
 }
 
 /// A loaded model is used right away: its chances before the first turn must be probabilities
-/// that sum to 1, and writing it out and reading it back must give the same model.
+/// that sum to 1 (and so must each fitted model's own, which the normalising of the chances could
+/// hide), and writing it out and reading it back must give the same model.
 pub fn check_model(model: &WinModel, path: &Path) {
     for actors in [2, 3] {
+        let table = start_table(&model.spec, actors);
+        let x = Matrix::new(table.rows.len(), table.width(), table.values.clone())
+            .expect("a start table fills its matrix");
+        for fitted in std::iter::once(&model.win).chain(model.draw.as_ref()) {
+            for p in fitted.predict_proba(&x) {
+                assert!(
+                    p.is_finite() && (0.0..=1.0).contains(&p),
+                    "a loaded {} model gave the raw chance {p}",
+                    fitted.kind().name()
+                );
+            }
+        }
         let (win, draw) = model.start_chances(actors);
         assert_eq!(win.len(), actors);
         for p in win.iter().chain([&draw]) {
@@ -120,7 +135,8 @@ pub fn check_set(set: &SessionSet) {
             assert!(e.actor.is_none_or(|a| usize::from(a) < s.actors.len()));
             assert!((e.label as usize) < set.labels.len());
             for &(c, v) in e.state.iter() {
-                assert!((c as usize) < set.state_columns.len() && v.is_finite());
+                // Feature tables hold 32-bit numbers: a value must stay finite there too.
+                assert!((c as usize) < set.state_columns.len() && (v as f32).is_finite());
             }
         }
         let _ = (s.winner_name(), s.turns(), s.turn_count(), s.variant());

@@ -325,7 +325,7 @@ impl SetBuilder {
             }
             let column = &mut self.columns[col as usize];
             match value.parse::<f64>() {
-                Ok(v) if v.is_finite() => {
+                Ok(v) if v.is_finite() && v.abs() <= MAX_STATE_VALUE => {
                     if actor.is_none() {
                         column.neutral_values += 1;
                     } else {
@@ -333,14 +333,27 @@ impl SetBuilder {
                         state.push((col, v));
                     }
                 }
-                Ok(_) => {
+                Ok(v) => {
                     column.non_finite += 1;
                     let name = column.name.clone();
+                    let (kind, what) = if v.is_finite() {
+                        (
+                            "out_of_range",
+                            format!(
+                                "is larger than {MAX_STATE_VALUE:e} in size, the most a state value can hold"
+                            ),
+                        )
+                    } else {
+                        ("non_finite", "is not a finite number".to_string())
+                    };
                     let p = Problem::new(
                         &self.file,
                         Severity::Warning,
-                        "non_finite",
-                        format!("`{value}` in column `{name}` is not a finite number; the value is ignored"),
+                        kind,
+                        format!(
+                            "`{}` in column `{name}` {what}; the value is ignored",
+                            clip(value)
+                        ),
                     )
                     .at_line(raw.line)
                     .in_column(name)
