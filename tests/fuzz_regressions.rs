@@ -30,7 +30,9 @@ fn problems<'a>(set: &'a SessionSet, kind: &str) -> Vec<&'a Problem> {
 /// would otherwise hold the whole test run; the thread is left behind when the test fails).
 fn within<T: Send + 'static>(seconds: u64, f: impl FnOnce() -> T + Send + 'static) -> T {
     let (send, receive) = mpsc::channel();
-    std::thread::spawn(move || send.send(f()));
+    std::thread::spawn(move || {
+        let _ = send.send(f());
+    });
     match receive.recv_timeout(Duration::from_secs(seconds)) {
         Ok(value) => value,
         Err(mpsc::RecvTimeoutError::Timeout) => panic!("still running after {seconds} s"),
