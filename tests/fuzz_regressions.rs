@@ -190,3 +190,16 @@ fn a_state_value_too_large_for_a_feature_is_ignored_with_a_warning() {
     assert_eq!(s.events[1].state.len(), 1, "the next value is kept");
     assert!(s.is_finished());
 }
+
+/// Found by the model_file target: a boosted tree whose threshold is written
+/// `444444444444444444444444444444444444445` (past the 32-bit range) loaded with an infinite
+/// threshold, which saving writes as `null`, so the saved model no longer loaded.
+#[test]
+fn a_tree_threshold_past_the_32_bit_range_is_refused() {
+    let reason = invalid_reason(&input("model_file-infinite-threshold.bin"));
+    assert!(
+        reason.starts_with("win model: tree 0 node 2 has no threshold"),
+        "{reason}"
+    );
+    assert!(reason.contains("read as inf"), "{reason}");
+}

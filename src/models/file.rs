@@ -240,8 +240,14 @@ fn check_fitted(what: &str, fitted: &Fitted, width: usize) -> Result<(), String>
                             node.feature
                         ));
                     }
-                    if node.threshold.is_nan() {
-                        return Err(format!("{what}: tree {t} node {i} has no threshold"));
+                    // A threshold past the 32-bit range reads as infinite, and an infinite
+                    // one could not be written back (JSON has no infinity).
+                    if !node.threshold.is_finite() {
+                        return Err(format!(
+                            "{what}: tree {t} node {i} has no threshold a feature value can be compared with \
+                             (read as {}; expected a finite number of at most about 3.4e38 in size)",
+                            node.threshold
+                        ));
                     }
                     for child in [node.left, node.right] {
                         // Children come after their parent, so walking a tree always ends.
