@@ -1,7 +1,8 @@
-//! Inputs that once crashed, hung or exhausted the loaders, replayed through the code the fuzz
-//! targets run (tests/common/fuzz_checks.rs; the targets are in fuzz/, see DEVELOPERS.md,
-//! "Fuzzing"). Each test fails if the input panics again, or if the problem it must produce
-//! is no longer reported with its file, line and what was expected.
+//! Inputs that once crashed the loaders or broke what they promise (and, at the end, the
+//! importers' richest fuzz inputs), replayed through the code the fuzz targets run
+//! (tests/common/fuzz_checks.rs; the targets are in fuzz/, see DEVELOPERS.md, "Fuzzing").
+//! Each test fails if the input panics again, or if the problem it must produce is no longer
+//! reported with its file, line and what was expected.
 
 #[path = "common/fuzz_checks.rs"]
 mod fuzz_checks;
@@ -202,4 +203,52 @@ fn a_tree_threshold_past_the_32_bit_range_is_refused() {
         "{reason}"
     );
     assert!(reason.contains("read as inf"), "{reason}");
+}
+
+/// The saved inputs whose names start with `prefix`, by name.
+fn inputs_starting(prefix: &str) -> Vec<(String, Vec<u8>)> {
+    let dir = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/inputs/fuzz");
+    let mut names: Vec<String> = std::fs::read_dir(&dir)
+        .unwrap_or_else(|e| panic!("{}: {e}", dir.display()))
+        .map(|e| {
+            e.expect("a folder entry")
+                .file_name()
+                .to_string_lossy()
+                .into_owned()
+        })
+        .filter(|n| n.starts_with(prefix))
+        .collect();
+    names.sort();
+    names.into_iter().map(|n| (n.clone(), input(&n))).collect()
+}
+
+/// Not crashes: no importer crash was found. These are the inputs of the import_csv and
+/// import_jsonl corpora that reached the most code on their own (mangled slices of the sample
+/// sets, a few KiB in all), replayed so a change that breaks what a loaded set promises on odd
+/// input fails here and not only under the fuzzer.
+#[test]
+fn the_importers_richest_fuzz_inputs_load_with_their_problems_reported() {
+    let csv = inputs_starting("import_csv-corpus-");
+    let jsonl = inputs_starting("import_jsonl-corpus-");
+    assert_eq!(
+        (csv.len(), jsonl.len()),
+        (4, 3),
+        "the saved inputs are all there"
+    );
+    let loaded = csv
+        .iter()
+        .map(|(name, data)| (name, fuzz_checks::run_csv(data)))
+        .chain(
+            jsonl
+                .iter()
+                .map(|(name, data)| (name, fuzz_checks::run_jsonl(data))),
+        );
+    for (name, set) in loaded {
+        assert!(set.event_rows > 0, "{name}: no event row was read");
+        assert!(
+            set.problems.iter().any(|p| p.line.is_some()),
+            "{name}: a mangled file gets at least one problem with its line: {:#?}",
+            set.problems
+        );
+    }
 }
