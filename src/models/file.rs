@@ -13,6 +13,10 @@ pub const MODEL_FORMAT: &str = "tellturn-model";
 pub const MODEL_VERSION: u32 = 1;
 /// Largest model file accepted.
 pub const MAX_MODEL_BYTES: u64 = 256 * 1024 * 1024;
+/// Largest size of a logistic coefficient on the feature scale accepted in a model file.
+/// Fitted models' are many orders smaller; with this bound a margin summed over feature values
+/// (32-bit numbers, at most about 3.4e38) stays finite.
+pub const MAX_RAW_COEFFICIENT: f64 = 1e30;
 
 #[derive(Serialize, Deserialize)]
 struct ModelFile {
@@ -188,6 +192,27 @@ fn check_fitted(what: &str, fitted: &Fitted, width: usize) -> Result<(), String>
             if !m.intercept.is_finite() {
                 return Err(format!("{what}: the intercept is not a finite number"));
             }
+            // Predictions use coefficients on the feature scale (coefficient / scale): bounded
+            // so that a margin over 32-bit feature values can never overflow into NaN.
+            let raw = m.raw_coefficients();
+            if let Some(j) = raw.iter().position(|u| u.abs() > MAX_RAW_COEFFICIENT) {
+                return Err(format!(
+                    "{what}: column {j} has coefficient {:?} at scale {:?}, {:?} on the feature scale; \
+                     a fitted model's are far below {MAX_RAW_COEFFICIENT:e}",
+                    m.coefficients[j], m.scales[j], raw[j]
+                ));
+            }
+            if let Some(j) = m.impute.iter().position(|v| v.abs() > f64::from(f32::MAX)) {
+                return Err(format!(
+                    "{what}: column {j} fills in missing values with {:?}, more than a feature value can hold",
+                    m.impute[j]
+                ));
+            }
+            if !m.raw_intercept().is_finite() {
+                return Err(format!(
+                    "{what}: the intercept on the feature scale is not a finite number (check the means)"
+                ));
+            }
         }
         Fitted::Boosted(m) => {
             if m.n_features != width {
@@ -215,8 +240,14 @@ fn check_fitted(what: &str, fitted: &Fitted, width: usize) -> Result<(), String>
                             node.feature
                         ));
                     }
-                    if node.threshold.is_nan() {
-                        return Err(format!("{what}: tree {t} node {i} has no threshold"));
+                    // A threshold past the 32-bit range reads as infinite, and an infinite
+                    // one could not be written back (JSON has no infinity).
+                    if !node.threshold.is_finite() {
+                        return Err(format!(
+                            "{what}: tree {t} node {i} has no threshold a feature value can be compared with \
+                             (read as {}; expected a finite number of at most about 3.4e38 in size)",
+                            node.threshold
+                        ));
                     }
                     for child in [node.left, node.right] {
                         // Children come after their parent, so walking a tree always ends.

@@ -16,8 +16,14 @@ pub const MAX_SESSIONS: usize = 1_000_000;
 pub const MAX_EVENT_ROWS: u64 = 100_000_000;
 /// Most distinct event labels in one set (later new labels are merged into one).
 pub const MAX_EVENT_LABELS: usize = 4_096;
+/// Most columns read from a header (later columns are ignored): the known columns and
+/// [`MAX_STATE_COLUMNS`] state columns fit many times over.
+pub const MAX_COLUMNS: usize = 1_024;
 /// Most numeric state columns in one set (later columns are ignored).
 pub const MAX_STATE_COLUMNS: usize = 64;
+/// Largest size of a state value accepted: feature values are 32-bit numbers, so a larger
+/// one would become infinite.
+pub const MAX_STATE_VALUE: f64 = f32::MAX as f64;
 /// Largest turn number accepted.
 pub const MAX_TURN: u64 = 1_000_000;
 /// Label that stands for every event label past [`MAX_EVENT_LABELS`].

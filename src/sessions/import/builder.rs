@@ -135,7 +135,8 @@ impl SetBuilder {
         Some(i)
     }
 
-    fn label(&mut self, name: &str) -> u32 {
+    /// The index of event label `name` (created on first use); `line` is where it was read.
+    fn label(&mut self, name: &str, line: u64) -> u32 {
         if let Some(&i) = self.label_index.get(name) {
             return i;
         }
@@ -147,9 +148,19 @@ impl SetBuilder {
                 format!(
                     "more than {MAX_EVENT_LABELS} distinct event labels; later new labels are counted as `{OTHER_LABEL}`"
                 ),
-            );
+            )
+            .at_line(line)
+            .in_column("event");
             self.warn(p);
-            return self.label(OTHER_LABEL);
+            // The merged label takes the one slot past the cap (asking `label` for it again
+            // would find the cap reached and never return).
+            if let Some(&i) = self.label_index.get(OTHER_LABEL) {
+                return i;
+            }
+            let i = self.labels.len() as u32;
+            self.labels.push(OTHER_LABEL.to_string());
+            self.label_index.insert(OTHER_LABEL.to_string(), i);
+            return i;
         }
         let i = self.labels.len() as u32;
         self.labels.push(name.to_string());
@@ -302,9 +313,9 @@ impl SetBuilder {
             .in_column("event")
             .for_session(id);
             self.warn(p);
-            self.label("(blank)")
+            self.label("(blank)", raw.line)
         } else {
-            self.label(label_text)
+            self.label(label_text, raw.line)
         };
         let mut state = Vec::new();
         for &(col, value) in raw.state {
@@ -314,7 +325,7 @@ impl SetBuilder {
             }
             let column = &mut self.columns[col as usize];
             match value.parse::<f64>() {
-                Ok(v) if v.is_finite() => {
+                Ok(v) if v.is_finite() && v.abs() <= MAX_STATE_VALUE => {
                     if actor.is_none() {
                         column.neutral_values += 1;
                     } else {
@@ -322,14 +333,27 @@ impl SetBuilder {
                         state.push((col, v));
                     }
                 }
-                Ok(_) => {
+                Ok(v) => {
                     column.non_finite += 1;
                     let name = column.name.clone();
+                    let (kind, what) = if v.is_finite() {
+                        (
+                            "out_of_range",
+                            format!(
+                                "is larger than {MAX_STATE_VALUE:e} in size, the most a state value can hold"
+                            ),
+                        )
+                    } else {
+                        ("non_finite", "is not a finite number".to_string())
+                    };
                     let p = Problem::new(
                         &self.file,
                         Severity::Warning,
-                        "non_finite",
-                        format!("`{value}` in column `{name}` is not a finite number; the value is ignored"),
+                        kind,
+                        format!(
+                            "`{}` in column `{name}` {what}; the value is ignored",
+                            clip(value)
+                        ),
                     )
                     .at_line(raw.line)
                     .in_column(name)

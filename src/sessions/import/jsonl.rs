@@ -28,6 +28,30 @@ fn text_of(v: &Value) -> String {
     }
 }
 
+/// Consume the rest of a line without keeping it, so an oversized line costs no memory.
+fn skip_line<R: BufRead>(reader: &mut R) -> std::io::Result<()> {
+    loop {
+        let buf = match reader.fill_buf() {
+            Ok(buf) => buf,
+            Err(e) if e.kind() == std::io::ErrorKind::Interrupted => continue,
+            Err(e) => return Err(e),
+        };
+        if buf.is_empty() {
+            return Ok(());
+        }
+        match buf.iter().position(|&b| b == b'\n') {
+            Some(i) => {
+                reader.consume(i + 1);
+                return Ok(());
+            }
+            None => {
+                let n = buf.len();
+                reader.consume(n);
+            }
+        }
+    }
+}
+
 /// Read JSON Lines events from `reader`.
 pub(crate) fn read_events<R: BufRead>(b: &mut SetBuilder, file: &Path, mut reader: R) {
     b.set_file(file);
@@ -61,9 +85,8 @@ pub(crate) fn read_events<R: BufRead>(b: &mut SetBuilder, file: &Path, mut reade
         }
         line_no += 1;
         if buf.len() > MAX_LINE_BYTES && buf.last() != Some(&b'\n') {
-            // Skip the rest of an oversized line.
-            let mut rest = Vec::new();
-            let _ = reader.read_until(b'\n', &mut rest);
+            // Skip the rest of an oversized line (a read error shows again on the next read).
+            let _ = skip_line(&mut reader);
             b.warn(
                 Problem::new(
                     file,

@@ -1,7 +1,7 @@
 //! A delimited text table read as a stream: delimiter sniffing, BOM, CRLF, quoted fields,
 //! non-UTF-8 text decoded as Windows-1252 (a superset of Latin-1), oversized fields truncated.
 
-use crate::sessions::limits::MAX_FIELD_BYTES;
+use crate::sessions::limits::{MAX_COLUMNS, MAX_FIELD_BYTES};
 use crate::sessions::{Problem, Severity};
 use std::io::{self, Read};
 use std::path::{Path, PathBuf};
@@ -20,6 +20,11 @@ pub(crate) struct Table<R: Read> {
     pub raw_headers: Vec<String>,
     /// The current row's fields, decoded; reused between rows.
     pub fields: Vec<String>,
+    /// Fields the header has, including those past [`MAX_COLUMNS`] that are not read.
+    header_fields: usize,
+    /// Every field from this index on is empty (so a short row clears only what the row
+    /// before it filled, and its cost does not grow with the header's width).
+    filled: usize,
     /// The line the current row starts on.
     pub line: u64,
     decoded_fields: u64,
@@ -98,6 +103,8 @@ impl<R: Read> Table<R> {
             headers: Vec::new(),
             raw_headers: Vec::new(),
             fields: Vec::new(),
+            header_fields: 0,
+            filled: 0,
             line: 0,
             decoded_fields: 0,
             first_decoded_line: 0,
@@ -130,8 +137,24 @@ impl<R: Read> Table<R> {
             }
         }
         table.line = table.record.position().map_or(1, |p| p.line());
-        let header_record = table.record.clone();
-        for raw in header_record.iter() {
+        let header_record = std::mem::take(&mut table.record);
+        table.header_fields = header_record.len();
+        if header_record.len() > MAX_COLUMNS {
+            table.problems.push(
+                Problem::new(
+                    file,
+                    Severity::Warning,
+                    "header_too_wide",
+                    format!(
+                        "the header names {} columns; only the first {MAX_COLUMNS} are read \
+                         (expected session, turn, actor, event, detail and state columns)",
+                        header_record.len()
+                    ),
+                )
+                .at_line(table.line),
+            );
+        }
+        for raw in header_record.iter().take(MAX_COLUMNS) {
             let name = table.decode(raw, "header");
             table.raw_headers.push(name.trim().to_string());
             table.headers.push(name.trim().to_lowercase());
@@ -200,34 +223,32 @@ impl<R: Read> Table<R> {
             if self.record.len() == 1 && self.record[0].iter().all(|b| b.is_ascii_whitespace()) {
                 continue; // a blank line
             }
-            if self.record.len() > self.headers.len() {
+            if self.record.len() > self.header_fields {
                 self.extra_fields += 1;
                 if self.first_extra_line == 0 {
                     self.first_extra_line = self.line;
                 }
             }
             let record = std::mem::take(&mut self.record);
-            for i in 0..self.headers.len() {
-                let value = match record.get(i) {
-                    Some(raw) if raw.len() <= MAX_FIELD_BYTES && raw.is_ascii() => {
-                        // Fast path: plain ASCII needs no decoding.
-                        let mut f = std::mem::take(&mut self.fields[i]);
-                        f.clear();
-                        f.push_str(std::str::from_utf8(raw).unwrap_or_default());
-                        f
-                    }
-                    Some(raw) => {
-                        let column = self.headers[i].clone();
-                        self.decode(raw, &column)
-                    }
-                    None => {
-                        let mut f = std::mem::take(&mut self.fields[i]);
-                        f.clear();
-                        f
-                    }
+            let present = record.len().min(self.headers.len());
+            for (i, raw) in record.iter().take(present).enumerate() {
+                let value = if raw.len() <= MAX_FIELD_BYTES && raw.is_ascii() {
+                    // Fast path: plain ASCII needs no decoding.
+                    let mut f = std::mem::take(&mut self.fields[i]);
+                    f.clear();
+                    f.push_str(std::str::from_utf8(raw).unwrap_or_default());
+                    f
+                } else {
+                    let column = self.headers[i].clone();
+                    self.decode(raw, &column)
                 };
                 self.fields[i] = value;
             }
+            // Missing trailing fields read as empty.
+            for f in self.fields.iter_mut().take(self.filled).skip(present) {
+                f.clear();
+            }
+            self.filled = present;
             self.record = record;
             return true;
         }
