@@ -618,8 +618,10 @@ pub fn train(
     // Validation loss of the previous penalty on the logistic path, and whether it rose.
     let mut path_last: Option<f64> = None;
     let mut path_stopped = false;
+    let mut path_skipped = 0usize;
     for (ci, cand) in candidates.into_iter().enumerate() {
         if path_stopped && matches!(cand, Chosen::Logistic(_)) {
+            path_skipped += 1;
             continue;
         }
         let mut loss = 0.0;
@@ -718,6 +720,11 @@ pub fn train(
             "a session-grouped validation fold of the training part".to_string()
         }
     );
+    if path_skipped > 0 {
+        choice_text.push_str(
+            "; weaker logistic penalties were not tried once the validation loss rose",
+        );
+    }
     if let Some(r) = ctx.draw_rounds {
         choice_text.push_str(&format!(
             "; draw model: {r} rounds, by early stopping on the same fold"
