@@ -721,9 +721,8 @@ pub fn train(
         }
     );
     if path_skipped > 0 {
-        choice_text.push_str(
-            "; weaker logistic penalties were not tried once the validation loss rose",
-        );
+        choice_text
+            .push_str("; weaker logistic penalties were not tried once the validation loss rose");
     }
     if let Some(r) = ctx.draw_rounds {
         choice_text.push_str(&format!(
