@@ -328,52 +328,41 @@ impl Ctx<'_> {
         with_draw: bool,
         warm: Option<&Fitted>,
     ) -> Result<(Fitted, Option<Fitted>, usize, Option<usize>), TrainError> {
-        let (x, won, draw) = (&data.x, &data.won, &data.draw);
         let t0 = Instant::now();
         let progress = StageProgress {
             inner: self.progress,
             stage,
         };
-        let mut rounds = None;
-        let win = match chosen {
-            Chosen::Logistic(p) => {
-                let start = match warm {
-                    Some(Fitted::Logistic(l)) => Some(l),
-                    _ => None,
-                };
-                Fitted::Logistic(p.fit_from(x, won, None, start, &progress, self.cancel)?)
-            }
-            Chosen::Boosted(p) => {
-                let v = valid.map(|v| (&v.x, v.won.as_slice()));
-                progress.report("binning", 0.0);
-                let binned = data.binned(&self.bins)?;
-                let m = p.fit_binned(binned, won, None, v, &progress, self.cancel)?;
-                rounds = Some(m.best_rounds);
-                Fitted::Boosted(m)
-            }
+        let valid = valid.map(|v| (&v.x, v.won.as_slice()));
+        let win = fit_one(
+            chosen,
+            data,
+            &data.won,
+            valid,
+            warm,
+            None,
+            &self.bins,
+            &progress,
+            self.cancel,
+        )?;
+        let rounds = match &win {
+            Fitted::Boosted(m) => Some(m.best_rounds),
+            Fitted::Logistic(_) => None,
         };
         // The draw model is of the same kind as the win model: draws can depend on the
         // position as non-linearly as wins do.
-        let draw_model = if with_draw && draw.iter().any(|&d| d > 0.5) {
-            Some(match chosen {
-                Chosen::Logistic(p) => {
-                    Fitted::Logistic(p.fit(x, draw, None, &progress, self.cancel)?)
-                }
-                Chosen::Boosted(p) => Fitted::Boosted(
-                    BoostedParams {
-                        max_rounds: self.draw_rounds.unwrap_or(p.max_rounds),
-                        ..p.clone()
-                    }
-                    .fit_binned(
-                        data.binned(&self.bins)?,
-                        draw,
-                        None,
-                        None,
-                        &progress,
-                        self.cancel,
-                    )?,
-                ),
-            })
+        let draw_model = if with_draw && data.draw.iter().any(|&d| d > 0.5) {
+            Some(fit_one(
+                chosen,
+                data,
+                &data.draw,
+                None,
+                None,
+                self.draw_rounds,
+                &self.bins,
+                &progress,
+                self.cancel,
+            )?)
         } else {
             None
         };
@@ -393,24 +382,38 @@ impl Ctx<'_> {
 /// side by side.
 const PARALLEL_CURVE_ROWS: usize = 400_000;
 
-/// A win model alone on prepared data, without validation (the learning curve's fits).
-fn fit_win(
+/// One model of the chosen kind on `data` with `labels`: logistic started from `warm` (an
+/// earlier logistic fit on the same data), or boosted trees on the data's shared bins with
+/// early stopping on `valid` and `max_rounds` in place of the chosen rounds when given.
+#[allow(clippy::too_many_arguments)]
+fn fit_one(
     chosen: &Chosen,
     data: &Data,
+    labels: &[f32],
+    valid: Option<(&Matrix, &[f32])>,
+    warm: Option<&Fitted>,
+    max_rounds: Option<usize>,
     bins: &BoostedParams,
+    progress: &dyn Progress,
     cancel: &Cancel,
 ) -> Result<Fitted, TrainError> {
-    let quiet = crate::progress::NoProgress;
     Ok(match chosen {
-        Chosen::Logistic(p) => Fitted::Logistic(p.fit(&data.x, &data.won, None, &quiet, cancel)?),
-        Chosen::Boosted(p) => Fitted::Boosted(p.fit_binned(
-            data.binned(bins)?,
-            &data.won,
-            None,
-            None,
-            &quiet,
-            cancel,
-        )?),
+        Chosen::Logistic(p) => {
+            let start = match warm {
+                Some(Fitted::Logistic(l)) => Some(l),
+                _ => None,
+            };
+            Fitted::Logistic(p.fit_from(&data.x, labels, None, start, progress, cancel)?)
+        }
+        Chosen::Boosted(p) => {
+            progress.report("binning", 0.0);
+            let binned = data.binned(bins)?;
+            let params = BoostedParams {
+                max_rounds: max_rounds.unwrap_or(p.max_rounds),
+                ..p.clone()
+            };
+            Fitted::Boosted(params.fit_binned(binned, labels, None, valid, progress, cancel)?)
+        }
     })
 }
 
@@ -681,28 +684,29 @@ pub fn train(
     };
     // Boosted draw models get their own rounds by early stopping on the same validation fold:
     // draws are rare, so they usually need far fewer trees than wins (and more would overfit).
-    if let (Chosen::Boosted(p), Some((fit_data, valid_data))) = (&chosen, fold_data.first()) {
+    if let (Chosen::Boosted(_), Some((fit_data, valid_data))) = (&chosen, fold_data.first()) {
         let has = |d: &[f32]| d.iter().any(|&v| v > 0.5);
         if has(&fit_data.draw) && has(&valid_data.draw) {
             let t0 = Instant::now();
-            let params = BoostedParams {
-                max_rounds: options.boosted.max_rounds,
-                ..p.clone()
-            };
             let stage = StageProgress {
                 inner: progress,
                 stage: "tuning",
             };
-            let m = params.fit_binned(
-                fit_data.binned(&ctx.bins)?,
+            let fitted = fit_one(
+                &chosen,
+                fit_data,
                 &fit_data.draw,
-                None,
                 Some((&valid_data.x, &valid_data.draw)),
+                None,
+                Some(options.boosted.max_rounds),
+                &ctx.bins,
                 &stage,
                 cancel,
             )?;
             ctx.timings.fit += t0.elapsed().as_secs_f64();
-            ctx.draw_rounds = Some(m.best_rounds.max(1));
+            if let Fitted::Boosted(m) = fitted {
+                ctx.draw_rounds = Some(m.best_rounds.max(1));
+            }
         }
     }
     // Free the tuning tables before the final fit builds its own.
@@ -852,7 +856,10 @@ pub fn train(
             let fits: Vec<Result<Fitted, TrainError>> = datas
                 .par_iter()
                 .map(|d| {
-                    let fitted = fit_win(&chosen, d, &ctx.bins, cancel);
+                    let quiet = crate::progress::NoProgress;
+                    let fitted = fit_one(
+                        &chosen, d, &d.won, None, None, None, &ctx.bins, &quiet, cancel,
+                    );
                     let k = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
                     progress.report("learning curve", k as f64 / sizes.len() as f64);
                     fitted
