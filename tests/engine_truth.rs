@@ -121,6 +121,34 @@ fn out_of_fold_chances_are_close_to_the_simulators_truth_and_calibrated() {
 }
 
 #[test]
+fn the_learning_curve_reuses_the_tuning_model_and_falls_with_more_sessions() {
+    let (_dir, set) = demo_set("A", 300, 41);
+    let options = TrainOptions {
+        cross_fit: false,
+        learning_curve: true,
+        ..TrainOptions::default()
+    };
+    let training = train(&[&set], &options, &NoProgress, &Cancel::new()).unwrap();
+    let curve = &training.learning_curve;
+    let sessions: Vec<usize> = curve.iter().map(|p| p.sessions).collect();
+    // 240 training sessions: 1/8 and 1/4 of them fitted for the curve, the tuning model on
+    // four of the five folds, and the final model on all of them.
+    let n = training.model.summary.trained_sessions;
+    assert_eq!(n, 240);
+    assert_eq!(sessions.first(), Some(&30));
+    assert_eq!(sessions.last(), Some(&n));
+    assert!(sessions.windows(2).all(|w| w[0] < w[1]), "{sessions:?}");
+    let tuning = sessions[sessions.len() - 2];
+    assert!((180..=204).contains(&tuning), "{sessions:?}");
+    // Eight times the sessions must give clearly better held-out chances on this scenario
+    // (measured, seed 41: 0.499 at 30 sessions against 0.463 at 240).
+    assert!(
+        curve[0].log_loss > curve[curve.len() - 1].log_loss + 0.01,
+        "{curve:?}"
+    );
+}
+
+#[test]
 fn a_value_cap_samples_turns_deterministically_and_says_so() {
     // 120 sessions with a cap of a quarter of their feature values: about one turn in four is
     // used to fit, the output says so, every turn is still scored, and the same seed gives

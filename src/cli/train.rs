@@ -4,7 +4,9 @@ use super::progress::{StderrProgress, ctrl_c_cancel};
 use super::{TrainArgs, load_sets};
 use std::time::Instant;
 use tellturn::evaluate::quality::{Quality, quality};
-use tellturn::evaluate::train::{Training, train};
+use tellturn::evaluate::train::{
+    STILL_IMPROVING_PER_DOUBLING, Training, loss_fall_per_doubling, train,
+};
 use tellturn::models::file::save_model;
 
 /// Run `train`.
@@ -41,6 +43,12 @@ pub fn run(args: &TrainArgs) -> anyhow::Result<i32> {
             t.score,
             started.elapsed().as_secs_f64()
         );
+        let stages: Vec<String> = t
+            .stages
+            .iter()
+            .map(|(name, s)| format!("{name} {s:.2} s"))
+            .collect();
+        println!("               by stage: {}", stages.join(", "));
     }
     Ok(0)
 }
@@ -114,13 +122,15 @@ pub fn describe(training: &Training, q: Option<&Quality>) -> String {
             .iter()
             .map(|p| format!("{} → {:.3}", p.sessions, p.log_loss))
             .collect();
-        let n = training.learning_curve.len();
-        let gain =
-            training.learning_curve[n - 2].log_loss - training.learning_curve[n - 1].log_loss;
-        let verdict = if gain > 0.005 {
-            "still improving: more sessions would likely sharpen the chances"
+        let fall = loss_fall_per_doubling(&training.learning_curve).unwrap_or(0.0);
+        let verdict = if fall > STILL_IMPROVING_PER_DOUBLING {
+            format!(
+                "still improving ({fall:.3} lower per doubling of sessions): more sessions would likely sharpen the chances"
+            )
         } else {
-            "flattening: more sessions of the same kind would add little"
+            format!(
+                "flattening ({fall:.3} lower per doubling of sessions): more sessions of the same kind would add little"
+            )
         };
         let _ = writeln!(
             out,

@@ -131,6 +131,31 @@ pub struct LearningPoint {
     pub log_loss: f64,
 }
 
+/// A fall in held-out log loss per doubling of the training sessions above which the curve
+/// counts as still improving (our own rule of thumb: about 1 % of a typical turn-level loss).
+pub const STILL_IMPROVING_PER_DOUBLING: f64 = 0.005;
+
+/// How much the held-out log loss falls per doubling of the training sessions: the
+/// least-squares slope of loss against log2(sessions) over the curve's last three points
+/// (its largest fits), negated. `None` with fewer than two points.
+pub fn loss_fall_per_doubling(curve: &[LearningPoint]) -> Option<f64> {
+    let tail = &curve[curve.len().saturating_sub(3)..];
+    if tail.len() < 2 {
+        return None;
+    }
+    let xs: Vec<f64> = tail.iter().map(|p| (p.sessions as f64).log2()).collect();
+    let k = tail.len() as f64;
+    let mx = xs.iter().sum::<f64>() / k;
+    let my = tail.iter().map(|p| p.log_loss).sum::<f64>() / k;
+    let sxx: f64 = xs.iter().map(|x| (x - mx).powi(2)).sum();
+    let sxy: f64 = xs
+        .iter()
+        .zip(tail)
+        .map(|(x, p)| (x - mx) * (p.log_loss - my))
+        .sum();
+    (sxx > 0.0).then(|| -sxy / sxx)
+}
+
 /// Seconds spent in each stage.
 #[derive(Debug, Clone, Default, PartialEq, Serialize)]
 pub struct Timings {
@@ -142,6 +167,16 @@ pub struct Timings {
     pub score: f64,
     /// Everything.
     pub total: f64,
+    /// Wall seconds of each stage of the run, in order (`tuning`, `final fit`, ...).
+    pub stages: Vec<(String, f64)>,
+}
+
+impl Timings {
+    /// Records that `stage` ran from `since` until now.
+    fn stage(&mut self, stage: &str, since: Instant) {
+        self.stages
+            .push((stage.to_string(), since.elapsed().as_secs_f64()));
+    }
 }
 
 /// The result of a training run.
@@ -382,6 +417,10 @@ impl Ctx<'_> {
 /// side by side.
 const PARALLEL_CURVE_ROWS: usize = 400_000;
 
+/// Shares of the training sessions fitted for the learning curve, besides the tuning model
+/// (about (k − 1)/k of them) and the final model (all of them).
+const LEARNING_CURVE_SHARES: [f64; 2] = [0.125, 0.25];
+
 /// One model of the chosen kind on `data` with `labels`: logistic started from `warm` (an
 /// earlier logistic fit on the same data), or boosted trees on the data's shared bins with
 /// early stopping on `valid` and `max_rounds` in place of the chosen rounds when given.
@@ -545,6 +584,7 @@ pub fn train(
 
     // Tuning, inside the training part only.
     progress.report("tuning", 0.0);
+    let stage_start = Instant::now();
     let small = train_sessions.len() < SMALL_SET_SESSIONS;
     let mut tuning = Vec::new();
     let fold_of = |i: usize| match split.roles[i] {
@@ -604,15 +644,22 @@ pub fn train(
     }
     // Small sets: full grouped k-fold; larger sets: one validation fold (plenty of sessions).
     let cv_folds: Vec<usize> = if small { (0..folds).collect() } else { vec![0] };
-    let mut best: Option<(f64, Chosen)> = None;
+    // The best candidate so far: its validation loss, settings, and its model on the first
+    // validation fold (a learning-curve point for free: it never saw the test sessions).
+    let mut best: Option<(f64, Chosen, Option<Fitted>)> = None;
     let n_candidates = candidates.len();
     // Each fold's tables are built once and shared by every candidate.
     let mut fold_data = Vec::new();
+    // Training sessions behind the first fold's fits.
+    let mut first_fold_sessions = 0;
     for &f in &cv_folds {
         let fit_on = fold_sessions(f, false);
         let valid = fold_sessions(f, true);
         if fit_on.is_empty() || valid.is_empty() {
             continue;
+        }
+        if fold_data.is_empty() {
+            first_fold_sessions = fit_on.len();
         }
         fold_data.push((ctx.data(&fit_on, true)?, ctx.data(&valid, false)?));
     }
@@ -630,6 +677,7 @@ pub fn train(
         let mut loss = 0.0;
         let mut rounds_sum = 0usize;
         let mut counted = 0usize;
+        let mut first_model = None;
         for (fi, (fit_data, valid_data)) in fold_data.iter().enumerate() {
             let (win, _, _, rounds) = ctx.fit_data_from(
                 &cand,
@@ -641,7 +689,10 @@ pub fn train(
             )?;
             loss += ctx.loss_on(&win, valid_data);
             if matches!(win, Fitted::Logistic(_)) {
-                warm[fi] = Some(win);
+                warm[fi] = Some(win.clone());
+            }
+            if fi == 0 {
+                first_model = Some(win);
             }
             rounds_sum += rounds.unwrap_or(0);
             counted += 1;
@@ -672,11 +723,11 @@ pub fn train(
             rounds,
             chosen: false,
         });
-        if best.as_ref().is_none_or(|(b, _)| loss < *b) {
-            best = Some((loss, tuned));
+        if best.as_ref().is_none_or(|(b, _, _)| loss < *b) {
+            best = Some((loss, tuned, first_model));
         }
     }
-    let Some((best_loss, chosen)) = best else {
+    let Some((best_loss, chosen, tuning_model)) = best else {
         return Err(TrainError::TooFew {
             found: finished.len(),
             needed: MIN_FINISHED_SESSIONS,
@@ -711,6 +762,7 @@ pub fn train(
     }
     // Free the tuning tables before the final fit builds its own.
     drop(fold_data);
+    ctx.timings.stage("tuning", stage_start);
     for t in &mut tuning {
         t.chosen = t.candidate == chosen.describe() && t.valid_log_loss == best_loss;
     }
@@ -736,6 +788,7 @@ pub fn train(
 
     // The final model, on every training session.
     progress.report("final fit", 0.0);
+    let stage_start = Instant::now();
     let (win, draw, trained_rows, _) =
         ctx.fit(&chosen, &train_sessions, None, "final fit", true)?;
     let mut model = WinModel {
@@ -757,6 +810,7 @@ pub fn train(
         },
     };
     progress.report("final fit", 1.0);
+    ctx.timings.stage("final fit", stage_start);
 
     // Traces: test share by the final model; training sessions cross-fitted.
     let t0 = Instant::now();
@@ -769,6 +823,7 @@ pub fn train(
     )?;
     ctx.timings.score += t0.elapsed().as_secs_f64();
     if options.cross_fit {
+        let stage_start = Instant::now();
         for f in 0..folds {
             progress.report("cross-fitting", f as f64 / folds as f64);
             let fit_on = fold_sessions(f, false);
@@ -794,6 +849,7 @@ pub fn train(
             ctx.timings.score += t0.elapsed().as_secs_f64();
         }
         progress.report("cross-fitting", 1.0);
+        ctx.timings.stage("cross-fitting", stage_start);
     }
     let open: Vec<(usize, usize)> = sets
         .iter()
@@ -817,9 +873,12 @@ pub fn train(
     ctx.timings.score += t0.elapsed().as_secs_f64();
     traces.sort_by_key(|t| (t.set, t.session));
 
-    // Learning curve: held-out loss on the test share against training sessions used.
+    // Learning curve: held-out loss on the test share against training sessions used. The
+    // tuning model (fitted on the first fold's training part) and the final model are two
+    // points for free; only the small subsets are fitted here.
     let mut learning_curve = Vec::new();
     if options.learning_curve && test_sessions.len() >= 5 {
+        let stage_start = Instant::now();
         let mut ordered: Vec<(u64, (usize, usize))> = train_sessions
             .iter()
             .map(|&(si, k)| {
@@ -832,19 +891,25 @@ pub fn train(
             .collect();
         ordered.sort_unstable();
         let n = ordered.len();
-        let mut sizes: Vec<usize> = [0.125, 0.25, 0.5, 1.0]
+        let tuning_point = tuning_model
+            .as_ref()
+            .filter(|_| first_fold_sessions > 0 && first_fold_sessions < n);
+        // Subsets smaller than the tuning model's share, each at least 5 sessions.
+        let below = tuning_point.map_or(n, |_| first_fold_sessions);
+        let mut smaller: Vec<usize> = LEARNING_CURVE_SHARES
             .iter()
-            .map(|f| ((n as f64 * f).round() as usize).max(5).min(n))
+            .map(|f| ((n as f64 * f).round() as usize).max(5))
+            .filter(|&m| m < below)
             .collect();
-        sizes.dedup();
+        smaller.dedup();
         let test_data = ctx.data(&test_sessions, false)?;
-        // The smaller fits use the machine's cores poorly one at a time; when their tables
-        // are small, fit them side by side (each fit is deterministic, so the curve is the
-        // same at any thread count). Large tables are fitted one at a time to bound memory.
-        let smaller: Vec<usize> = sizes.iter().copied().filter(|&m| m < n).collect();
         let subset_of =
             |m: usize| -> Vec<(usize, usize)> { ordered[..m].iter().map(|x| x.1).collect() };
+        // The small fits use the machine's cores poorly one at a time; when their tables are
+        // small, fit them side by side (each fit is deterministic, so the curve is the same
+        // at any thread count). Large tables are fitted one at a time to bound memory.
         let sub_rows: usize = smaller.iter().map(|&m| trained_rows * m / n.max(1)).sum();
+        let steps = smaller.len() + 1;
         let mut losses: Vec<f64> = Vec::with_capacity(smaller.len());
         if sub_rows <= PARALLEL_CURVE_ROWS {
             let mut datas = Vec::with_capacity(smaller.len());
@@ -861,7 +926,7 @@ pub fn train(
                         &chosen, d, &d.won, None, None, None, &ctx.bins, &quiet, cancel,
                     );
                     let k = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
-                    progress.report("learning curve", k as f64 / sizes.len() as f64);
+                    progress.report("learning curve", k as f64 / steps as f64);
                     fitted
                 })
                 .collect();
@@ -871,25 +936,27 @@ pub fn train(
             }
         } else {
             for (i, &m) in smaller.iter().enumerate() {
-                progress.report("learning curve", i as f64 / sizes.len() as f64);
+                progress.report("learning curve", i as f64 / steps as f64);
                 let (win, _, _, _) =
                     ctx.fit(&chosen, &subset_of(m), None, "learning curve", false)?;
                 losses.push(ctx.loss_on(&win, &test_data));
             }
         }
-        let mut losses = losses.into_iter();
-        for &m in &sizes {
-            let log_loss = if m == n {
-                ctx.loss_on(&model.win, &test_data)
-            } else {
-                losses.next().unwrap_or(f64::NAN)
-            };
+        for (&sessions, log_loss) in smaller.iter().zip(losses) {
+            learning_curve.push(LearningPoint { sessions, log_loss });
+        }
+        if let Some(m) = tuning_point {
             learning_curve.push(LearningPoint {
-                sessions: m,
-                log_loss,
+                sessions: first_fold_sessions,
+                log_loss: ctx.loss_on(m, &test_data),
             });
         }
+        learning_curve.push(LearningPoint {
+            sessions: n,
+            log_loss: ctx.loss_on(&model.win, &test_data),
+        });
         progress.report("learning curve", 1.0);
+        ctx.timings.stage("learning curve", stage_start);
     }
     model.summary.notes = notes.clone();
     ctx.timings.total = started.elapsed().as_secs_f64();
@@ -904,4 +971,35 @@ pub fn train(
         timings: ctx.timings,
         sampled_one_in,
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn point(sessions: usize, log_loss: f64) -> LearningPoint {
+        LearningPoint { sessions, log_loss }
+    }
+
+    #[test]
+    fn fall_per_doubling_is_the_least_squares_slope_over_the_last_three_points() {
+        // By hand: at 200, 400, 800 sessions the x = log2 values are equally spaced one apart,
+        // so the least-squares slope is (last − first) / 2 = (0.50 − 0.56) / 2 = −0.03.
+        let curve = [
+            point(100, 0.70),
+            point(200, 0.56),
+            point(400, 0.55),
+            point(800, 0.50),
+        ];
+        let fall = loss_fall_per_doubling(&curve).unwrap();
+        assert!((fall - 0.03).abs() < 1e-12, "{fall}");
+        // Two points: the plain difference over the doublings between them (log2(4) = 2).
+        let fall = loss_fall_per_doubling(&[point(100, 0.6), point(400, 0.5)]).unwrap();
+        assert!((fall - 0.05).abs() < 1e-12, "{fall}");
+        assert_eq!(loss_fall_per_doubling(&[point(100, 0.6)]), None);
+        assert_eq!(
+            loss_fall_per_doubling(&[point(100, 0.6), point(100, 0.5)]),
+            None
+        );
+    }
 }

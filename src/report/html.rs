@@ -249,12 +249,15 @@ fn quality_section(out: &mut String, side: &SideResult) {
             (0.0, pts.last().map(|p| p.0).unwrap_or(1.0) * 1.05),
             (ymin - 0.02, ymax + 0.02),
         );
-        let n = lc.len();
-        let gain = lc[n - 2].log_loss - lc[n - 1].log_loss;
-        let verdict = if gain > 0.005 {
-            "The loss is still falling: more sessions of the same kind would likely sharpen the chances."
+        let fall = crate::evaluate::train::loss_fall_per_doubling(lc).unwrap_or(0.0);
+        let verdict = if fall > crate::evaluate::train::STILL_IMPROVING_PER_DOUBLING {
+            format!(
+                "The loss is still falling ({fall:.3} per doubling of the sessions): more sessions of the same kind would likely sharpen the chances."
+            )
         } else {
-            "The curve is flattening: more sessions of the same kind would add little."
+            format!(
+                "The curve is flattening ({fall:.3} per doubling of the sessions): more sessions of the same kind would add little."
+            )
         };
         figure(
             out,
