@@ -456,6 +456,16 @@ fn fit_one(
     })
 }
 
+/// How one tuning candidate did on the validation folds.
+struct CandidateResult {
+    /// Mean validation log loss over the folds.
+    loss: f64,
+    /// The candidate with its rounds set by early stopping (boosted).
+    tuned: Chosen,
+    /// Its win model on the first fold.
+    first_model: Option<Fitted>,
+}
+
 /// Passes engine progress on with a stage name of our own.
 struct StageProgress<'a> {
     inner: &'a dyn Progress,
@@ -663,68 +673,108 @@ pub fn train(
         }
         fold_data.push((ctx.data(&fit_on, true)?, ctx.data(&valid, false)?));
     }
-    // The last logistic fit of each fold, to start the next penalty from.
-    let mut warm: Vec<Option<Fitted>> = vec![None; fold_data.len()];
-    // Validation loss of the previous penalty on the logistic path, and whether it rose.
-    let mut path_last: Option<f64> = None;
-    let mut path_stopped = false;
-    let mut path_skipped = 0usize;
-    for (ci, cand) in candidates.into_iter().enumerate() {
-        if path_stopped && matches!(cand, Chosen::Logistic(_)) {
-            path_skipped += 1;
-            continue;
-        }
+    // The logistic path and the boosted candidates run side by side (each fit is
+    // deterministic, and the results are merged in candidate order, so the choice is the
+    // same at any thread count); the path itself is sequential, each penalty warm-started.
+    let (logistic, boosted): (Vec<Chosen>, Vec<Chosen>) = candidates
+        .into_iter()
+        .partition(|c| matches!(c, Chosen::Logistic(_)));
+    let tried = std::sync::atomic::AtomicUsize::new(0);
+    let tuning_progress = StageProgress {
+        inner: progress,
+        stage: "tuning",
+    };
+    let run_candidate = |cand: &Chosen,
+                         warm: &mut [Option<Fitted>]|
+     -> Result<Option<CandidateResult>, TrainError> {
         let mut loss = 0.0;
         let mut rounds_sum = 0usize;
-        let mut counted = 0usize;
         let mut first_model = None;
         for (fi, (fit_data, valid_data)) in fold_data.iter().enumerate() {
-            let (win, _, _, rounds) = ctx.fit_data_from(
-                &cand,
+            let win = fit_one(
+                cand,
                 fit_data,
-                Some(valid_data),
-                "tuning",
-                false,
-                warm[fi].as_ref(),
+                &fit_data.won,
+                Some((&valid_data.x, &valid_data.won)),
+                warm.get(fi).and_then(Option::as_ref),
+                None,
+                &ctx.bins,
+                &tuning_progress,
+                cancel,
             )?;
             loss += ctx.loss_on(&win, valid_data);
-            if matches!(win, Fitted::Logistic(_)) {
-                warm[fi] = Some(win.clone());
+            match &win {
+                Fitted::Boosted(m) => rounds_sum += m.best_rounds,
+                Fitted::Logistic(_) => {
+                    if let Some(w) = warm.get_mut(fi) {
+                        *w = Some(win.clone());
+                    }
+                }
             }
             if fi == 0 {
                 first_model = Some(win);
             }
-            rounds_sum += rounds.unwrap_or(0);
-            counted += 1;
         }
-        progress.report("tuning", (ci + 1) as f64 / n_candidates as f64);
+        let k = tried.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
+        progress.report("tuning", k as f64 / n_candidates as f64);
+        let counted = fold_data.len();
         if counted == 0 {
-            continue;
+            return Ok(None);
         }
-        let loss = loss / counted as f64;
-        if matches!(cand, Chosen::Logistic(_)) {
-            path_stopped = path_last.is_some_and(|last| loss > last);
-            path_last = Some(loss);
-        }
-        let rounds = match &cand {
-            Chosen::Boosted(_) => Some((rounds_sum / counted).max(1)),
-            Chosen::Logistic(_) => None,
-        };
         let tuned = match cand {
             Chosen::Boosted(p) => Chosen::Boosted(BoostedParams {
-                max_rounds: rounds.unwrap_or(p.max_rounds),
-                ..p
+                max_rounds: (rounds_sum / counted).max(1),
+                ..p.clone()
             }),
-            other => other,
+            other => other.clone(),
         };
+        Ok(Some(CandidateResult {
+            loss: loss / counted as f64,
+            tuned,
+            first_model,
+        }))
+    };
+    let t0 = Instant::now();
+    let (logistic_results, boosted_results) = rayon::join(
+        || -> Result<(Vec<CandidateResult>, usize), TrainError> {
+            // The last logistic fit of each fold, to start the next penalty from; the path
+            // stops once the validation loss rises.
+            let mut warm: Vec<Option<Fitted>> = vec![None; fold_data.len()];
+            let mut results: Vec<CandidateResult> = Vec::new();
+            for (i, cand) in logistic.iter().enumerate() {
+                let Some(r) = run_candidate(cand, &mut warm)? else {
+                    continue;
+                };
+                let rose = results.last().is_some_and(|last| r.loss > last.loss);
+                results.push(r);
+                if rose {
+                    return Ok((results, logistic.len() - i - 1));
+                }
+            }
+            Ok((results, 0))
+        },
+        || -> Result<Vec<CandidateResult>, TrainError> {
+            let mut results = Vec::new();
+            for cand in &boosted {
+                results.extend(run_candidate(cand, &mut [])?);
+            }
+            Ok(results)
+        },
+    );
+    ctx.timings.fit += t0.elapsed().as_secs_f64();
+    let (logistic_results, path_skipped) = logistic_results?;
+    for r in logistic_results.into_iter().chain(boosted_results?) {
         tuning.push(TuningRecord {
-            candidate: tuned.describe(),
-            valid_log_loss: loss,
-            rounds,
+            candidate: r.tuned.describe(),
+            valid_log_loss: r.loss,
+            rounds: match &r.tuned {
+                Chosen::Boosted(p) => Some(p.max_rounds),
+                Chosen::Logistic(_) => None,
+            },
             chosen: false,
         });
-        if best.as_ref().is_none_or(|(b, _, _)| loss < *b) {
-            best = Some((loss, tuned, first_model));
+        if best.as_ref().is_none_or(|(b, _, _)| r.loss < *b) {
+            best = Some((r.loss, r.tuned, r.first_model));
         }
     }
     let Some((best_loss, chosen, tuning_model)) = best else {
