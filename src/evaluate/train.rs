@@ -323,67 +323,46 @@ impl Ctx<'_> {
         })
     }
 
-    /// Fit the win model (and a draw model when the sessions have draws).
+    /// Fit the win model (and a draw model when the sessions have draws) on the sessions;
+    /// returns the models and the number of turn rows fitted.
     fn fit(
         &mut self,
         chosen: &Chosen,
         sessions: &[(usize, usize)],
-        valid: Option<&[(usize, usize)]>,
         stage: &str,
         with_draw: bool,
-    ) -> Result<(Fitted, Option<Fitted>, usize, Option<usize>), TrainError> {
+    ) -> Result<(Fitted, Option<Fitted>, usize), TrainError> {
         let data = self.data(sessions, true)?;
-        let valid = match valid {
-            Some(v) => Some(self.data(v, false)?),
-            None => None,
-        };
-        self.fit_data(chosen, &data, valid.as_ref(), stage, with_draw)
-    }
-
-    /// Fit on prepared data (tuning reuses one fold's data for every candidate).
-    fn fit_data(
-        &mut self,
-        chosen: &Chosen,
-        data: &Data,
-        valid: Option<&Data>,
-        stage: &str,
-        with_draw: bool,
-    ) -> Result<(Fitted, Option<Fitted>, usize, Option<usize>), TrainError> {
-        self.fit_data_from(chosen, data, valid, stage, with_draw, None)
-    }
-
-    /// [`Self::fit_data`], a logistic win model started from `warm` (an earlier logistic fit
-    /// on the same data with another penalty).
-    fn fit_data_from(
-        &mut self,
-        chosen: &Chosen,
-        data: &Data,
-        valid: Option<&Data>,
-        stage: &str,
-        with_draw: bool,
-        warm: Option<&Fitted>,
-    ) -> Result<(Fitted, Option<Fitted>, usize, Option<usize>), TrainError> {
         let t0 = Instant::now();
+        let (win, draw) = self.fit_data(chosen, &data, stage, with_draw)?;
+        self.timings.fit += t0.elapsed().as_secs_f64();
+        Ok((win, draw, data.rows.len()))
+    }
+
+    /// Fit the win model (and a draw model when asked and the rows have draws) on prepared
+    /// data, with the rounds chosen by tuning.
+    fn fit_data(
+        &self,
+        chosen: &Chosen,
+        data: &Data,
+        stage: &str,
+        with_draw: bool,
+    ) -> Result<(Fitted, Option<Fitted>), TrainError> {
         let progress = StageProgress {
             inner: self.progress,
             stage,
         };
-        let valid = valid.map(|v| (&v.x, v.won.as_slice()));
         let win = fit_one(
             chosen,
             data,
             &data.won,
-            valid,
-            warm,
+            None,
+            None,
             None,
             &self.bins,
             &progress,
             self.cancel,
         )?;
-        let rounds = match &win {
-            Fitted::Boosted(m) => Some(m.best_rounds),
-            Fitted::Logistic(_) => None,
-        };
         // The draw model is of the same kind as the win model: draws can depend on the
         // position as non-linearly as wins do.
         let draw_model = if with_draw && data.draw.iter().any(|&d| d > 0.5) {
@@ -401,8 +380,7 @@ impl Ctx<'_> {
         } else {
             None
         };
-        self.timings.fit += t0.elapsed().as_secs_f64();
-        Ok((win, draw_model, data.rows.len(), rounds))
+        Ok((win, draw_model))
     }
 
     /// Validation log loss of a fitted win model on prepared data.
@@ -855,11 +833,71 @@ pub fn train(
         ));
     }
 
-    // The final model, on every training session.
+    // The learning curve's plan: sessions in a seeded order, the sizes fitted besides the
+    // tuning model (fitted on the first fold's training part) and the final model, which are
+    // two points for free.
+    let want_curve = options.learning_curve && test_sessions.len() >= 5;
+    let mut ordered: Vec<(u64, (usize, usize))> = train_sessions
+        .iter()
+        .map(|&(si, k)| {
+            let id = &sets[si].sessions[k].id;
+            (
+                crate::features::stable_hash(options.seed, id, 11 + si as u64),
+                (si, k),
+            )
+        })
+        .collect();
+    ordered.sort_unstable();
+    let n = ordered.len();
+    let tuning_point = tuning_model
+        .as_ref()
+        .filter(|_| want_curve && first_fold_sessions > 0 && first_fold_sessions < n);
+    // Subsets smaller than the tuning model's share, each at least 5 sessions.
+    let below = tuning_point.map_or(n, |_| first_fold_sessions);
+    let mut smaller: Vec<usize> = LEARNING_CURVE_SHARES
+        .iter()
+        .map(|f| ((n as f64 * f).round() as usize).max(5))
+        .filter(|&m| want_curve && m < below)
+        .collect();
+    smaller.dedup();
+    let subset_of =
+        |m: usize| -> Vec<(usize, usize)> { ordered[..m].iter().map(|x| x.1).collect() };
+
+    // The final model, on every training session. The small learning-curve fits use the
+    // machine's cores poorly one at a time; when their tables are small, they run beside the
+    // final fit (each fit is deterministic, so nothing depends on the thread count). Large
+    // tables are fitted one at a time, after it, to bound memory.
     progress.report("final fit", 0.0);
     let stage_start = Instant::now();
-    let (win, draw, trained_rows, _) =
-        ctx.fit(&chosen, &train_sessions, None, "final fit", true)?;
+    let final_data = ctx.data(&train_sessions, true)?;
+    let trained_rows = final_data.rows.len();
+    let sub_rows: usize = smaller.iter().map(|&m| trained_rows * m / n.max(1)).sum();
+    let curve_beside = sub_rows <= PARALLEL_CURVE_ROWS;
+    let mut curve_data = Vec::new();
+    if curve_beside {
+        for &m in &smaller {
+            curve_data.push(ctx.data(&subset_of(m), true)?);
+        }
+    }
+    let t0 = Instant::now();
+    let (final_fit, curve_fits) = rayon::join(
+        || ctx.fit_data(&chosen, &final_data, "final fit", true),
+        || {
+            curve_data
+                .par_iter()
+                .map(|d| {
+                    let quiet = crate::progress::NoProgress;
+                    fit_one(
+                        &chosen, d, &d.won, None, None, None, &ctx.bins, &quiet, cancel,
+                    )
+                })
+                .collect::<Vec<Result<Fitted, TrainError>>>()
+        },
+    );
+    ctx.timings.fit += t0.elapsed().as_secs_f64();
+    drop(final_data);
+    drop(curve_data);
+    let (win, draw) = final_fit?;
     let mut model = WinModel {
         spec: ctx.spec.clone(),
         win,
@@ -900,7 +938,7 @@ pub fn train(
             if fit_on.is_empty() || predict.is_empty() {
                 continue;
             }
-            let (win, draw, _, _) = ctx.fit(&chosen, &fit_on, None, "cross-fitting", true)?;
+            let (win, draw, _) = ctx.fit(&chosen, &fit_on, "cross-fitting", true)?;
             let fold_model = WinModel {
                 spec: ctx.spec.clone(),
                 win,
@@ -942,72 +980,20 @@ pub fn train(
     ctx.timings.score += t0.elapsed().as_secs_f64();
     traces.sort_by_key(|t| (t.set, t.session));
 
-    // Learning curve: held-out loss on the test share against training sessions used. The
-    // tuning model (fitted on the first fold's training part) and the final model are two
-    // points for free; only the small subsets are fitted here.
+    // Learning curve: held-out loss on the test share against training sessions used.
     let mut learning_curve = Vec::new();
-    if options.learning_curve && test_sessions.len() >= 5 {
+    if want_curve {
         let stage_start = Instant::now();
-        let mut ordered: Vec<(u64, (usize, usize))> = train_sessions
-            .iter()
-            .map(|&(si, k)| {
-                let id = &sets[si].sessions[k].id;
-                (
-                    crate::features::stable_hash(options.seed, id, 11 + si as u64),
-                    (si, k),
-                )
-            })
-            .collect();
-        ordered.sort_unstable();
-        let n = ordered.len();
-        let tuning_point = tuning_model
-            .as_ref()
-            .filter(|_| first_fold_sessions > 0 && first_fold_sessions < n);
-        // Subsets smaller than the tuning model's share, each at least 5 sessions.
-        let below = tuning_point.map_or(n, |_| first_fold_sessions);
-        let mut smaller: Vec<usize> = LEARNING_CURVE_SHARES
-            .iter()
-            .map(|f| ((n as f64 * f).round() as usize).max(5))
-            .filter(|&m| m < below)
-            .collect();
-        smaller.dedup();
         let test_data = ctx.data(&test_sessions, false)?;
-        let subset_of =
-            |m: usize| -> Vec<(usize, usize)> { ordered[..m].iter().map(|x| x.1).collect() };
-        // The small fits use the machine's cores poorly one at a time; when their tables are
-        // small, fit them side by side (each fit is deterministic, so the curve is the same
-        // at any thread count). Large tables are fitted one at a time to bound memory.
-        let sub_rows: usize = smaller.iter().map(|&m| trained_rows * m / n.max(1)).sum();
-        let steps = smaller.len() + 1;
         let mut losses: Vec<f64> = Vec::with_capacity(smaller.len());
-        if sub_rows <= PARALLEL_CURVE_ROWS {
-            let mut datas = Vec::with_capacity(smaller.len());
-            for &m in &smaller {
-                datas.push(ctx.data(&subset_of(m), true)?);
-            }
-            let t0 = Instant::now();
-            let done = std::sync::atomic::AtomicUsize::new(0);
-            let fits: Vec<Result<Fitted, TrainError>> = datas
-                .par_iter()
-                .map(|d| {
-                    let quiet = crate::progress::NoProgress;
-                    let fitted = fit_one(
-                        &chosen, d, &d.won, None, None, None, &ctx.bins, &quiet, cancel,
-                    );
-                    let k = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
-                    progress.report("learning curve", k as f64 / steps as f64);
-                    fitted
-                })
-                .collect();
-            ctx.timings.fit += t0.elapsed().as_secs_f64();
-            for f in fits {
+        if curve_beside {
+            for f in curve_fits {
                 losses.push(ctx.loss_on(&f?, &test_data));
             }
         } else {
             for (i, &m) in smaller.iter().enumerate() {
-                progress.report("learning curve", i as f64 / steps as f64);
-                let (win, _, _, _) =
-                    ctx.fit(&chosen, &subset_of(m), None, "learning curve", false)?;
+                progress.report("learning curve", i as f64 / (smaller.len() + 1) as f64);
+                let (win, _, _) = ctx.fit(&chosen, &subset_of(m), "learning curve", false)?;
                 losses.push(ctx.loss_on(&win, &test_data));
             }
         }
