@@ -128,6 +128,14 @@ fn no_command_modifies_its_inputs() {
             "{args:?}: {}",
             String::from_utf8_lossy(&o.stderr)
         );
+        if args[0] == "train" {
+            // Facilitators read the training summary too: it ends with the caution.
+            let out = String::from_utf8_lossy(&o.stdout);
+            assert!(
+                out.contains("must not drive operational decisions"),
+                "{out}"
+            );
+        }
     }
     assert_eq!(stamp(&input), before, "an input file changed");
     // No temporary file is left behind next to the outputs.

@@ -141,5 +141,10 @@ pub fn describe(training: &Training, q: Option<&Quality>) -> String {
     for note in &training.notes {
         let _ = writeln!(out, "note           {note}");
     }
+    let _ = writeln!(
+        out,
+        "caution        {}",
+        tellturn::analysis::findings::CAUTION
+    );
     out
 }
