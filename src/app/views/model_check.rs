@@ -125,7 +125,12 @@ impl ModelCheck {
                     }
                     p.points(Points::new("observed", PlotPoints::from(pts)).shape(MarkerShape::Circle).radius(4.0).filled(true).color(palette::series(dark, 2)));
                 });
-            cols[1].label(RichText::new("Learning curve: would more sessions help?").strong())
+            let answer = match tellturn::evaluate::train::loss_fall_per_doubling(&t.learning_curve) {
+                Some(f) if f > tellturn::evaluate::train::STILL_IMPROVING_PER_DOUBLING => format!(" Likely: {f:.3} lower per doubling."),
+                Some(f) => format!(" Little: {f:.3} lower per doubling."),
+                None => String::new(),
+            };
+            cols[1].label(RichText::new(format!("Learning curve: would more sessions help?{answer}")).strong())
                 .on_hover_text("Held-out log loss of models fitted on growing numbers of training sessions. Still falling at the right: more recorded sessions would sharpen the chances. Flat: more of the same would add little.");
             Plot::new("model-learning")
                 .height(h)
