@@ -49,15 +49,32 @@ impl BinEdges {
 
 /// Edges for one feature from its sampled values; NaN values are ignored.
 pub fn edges_from_sample(mut values: Vec<f32>, max_bins: usize) -> BinEdges {
-    values.retain(|v| !v.is_nan());
+    // Zeros (most of a count column) are counted rather than sorted; ±0 are one value.
+    let mut zeros = 0usize;
+    values.retain(|&v| {
+        if v == 0.0 {
+            zeros += 1;
+            false
+        } else {
+            !v.is_nan()
+        }
+    });
     values.sort_unstable_by(f32::total_cmp);
     // Distinct values with their counts.
     let mut distinct: Vec<(f32, usize)> = Vec::new();
-    for v in values {
-        match distinct.last_mut() {
-            Some((last, count)) if *last == v => *count += 1,
-            _ => distinct.push((v, 1)),
-        }
+    let push = |distinct: &mut Vec<(f32, usize)>, v: f32, n: usize| match distinct.last_mut() {
+        Some((last, count)) if *last == v => *count += n,
+        _ => distinct.push((v, n)),
+    };
+    let negatives = values.partition_point(|&v| v < 0.0);
+    for &v in &values[..negatives] {
+        push(&mut distinct, v, 1);
+    }
+    if zeros > 0 {
+        push(&mut distinct, 0.0, zeros);
+    }
+    for &v in &values[negatives..] {
+        push(&mut distinct, v, 1);
     }
     if distinct.len() <= 1 {
         return BinEdges { upper: Vec::new() };
@@ -304,6 +321,16 @@ mod tests {
         // Equal-count bins over the non-zero values: about 5000/15 values each (common practice).
         let first = (1..=5000).filter(|&i| e.bin_of(i as f32) == 1).count();
         assert!((250..=450).contains(&first), "{first}");
+    }
+
+    #[test]
+    fn zeros_of_both_signs_are_one_value_between_the_negatives_and_positives() {
+        // By hand: distinct values −2, 0 (three of them, −0 included), 1, 5; the bounds are the
+        // midpoints −1, 0.5 and 3.
+        let e = edges_from_sample(vec![1.0, -0.0, 5.0, 0.0, -2.0, 1.0, 0.0, f32::NAN], 255);
+        assert_eq!(e.upper, vec![-1.0, 0.5, 3.0]);
+        assert_eq!(e.bin_of(-0.0), 1);
+        assert_eq!(e.bin_of(0.0), 1);
     }
 
     #[test]
