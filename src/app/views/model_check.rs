@@ -131,7 +131,7 @@ impl ModelCheck {
                 None => String::new(),
             };
             cols[1].label(RichText::new(format!("Learning curve: would more sessions help?{answer}")).strong())
-                .on_hover_text("Held-out log loss of models fitted on growing numbers of training sessions. Still falling at the right: more recorded sessions would sharpen the chances. Flat: more of the same would add little.");
+                .on_hover_text("Held-out log loss of models fitted on growing numbers of training sessions. The answer is the fall in log loss per doubling of the sessions over the three largest fits: above 0.005 (our rule of thumb) more recorded sessions would likely sharpen the chances; at or below it, more of the same would add little.");
             Plot::new("model-learning")
                 .height(h)
                 .x_axis_label("training sessions")
