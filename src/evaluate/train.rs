@@ -235,6 +235,11 @@ struct Data {
 }
 
 impl Data {
+    /// Whether any of the rows comes from a drawn session.
+    fn has_draws(&self) -> bool {
+        self.draw.iter().any(|&d| d > 0.5)
+    }
+
     /// The rows binned with the run's bin settings (binned once, then reused).
     fn binned(&self, bins: &BoostedParams) -> Result<&BinnedData, FitError> {
         if let Some(b) = self.binned.get() {
@@ -365,7 +370,7 @@ impl Ctx<'_> {
         )?;
         // The draw model is of the same kind as the win model: draws can depend on the
         // position as non-linearly as wins do.
-        let draw_model = if with_draw && data.draw.iter().any(|&d| d > 0.5) {
+        let draw_model = if with_draw && data.has_draws() {
             Some(fit_one(
                 chosen,
                 data,
@@ -756,10 +761,9 @@ pub fn train(
                     Some(b) if b.loss <= r.loss => Some(b),
                     _ => Some(r),
                 });
-            let has = |d: &[f32]| d.iter().any(|&v| v > 0.5);
             let draw_rounds = match (best_boosted, fold_data.first()) {
                 (Some(b), Some((fit_data, valid_data)))
-                    if has(&fit_data.draw) && has(&valid_data.draw) =>
+                    if fit_data.has_draws() && valid_data.has_draws() =>
                 {
                     match fit_one(
                         &b.tuned,
