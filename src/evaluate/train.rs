@@ -248,6 +248,48 @@ impl Data {
         let b = bins.bin(&self.x)?;
         Ok(self.binned.get_or_init(|| b))
     }
+
+    /// Appends `more`'s rows. When these rows are binned already, `more` is binned with the
+    /// same edges, so the bins of every fit on the joined rows match those tuning used.
+    fn append(&mut self, more: Data) -> Result<(), FitError> {
+        self.x.append(&more.x)?;
+        if let Some(mut b) = self.binned.take() {
+            let extra = BinnedData::new(&more.x, b.edges.clone());
+            if b.append(&extra) {
+                self.binned = b.into();
+            }
+            // Otherwise (too many rows for one binned copy) the joined rows are binned afresh
+            // on first use, and the fit reports the limit.
+        }
+        self.rows.extend(more.rows);
+        self.won.extend(more.won);
+        self.draw.extend(more.draw);
+        Ok(())
+    }
+
+    /// The rows of the listed sessions `(set, session)`, in row order, with their bins when
+    /// these rows are binned already.
+    fn sessions_subset(&self, sessions: &[(usize, usize)]) -> Data {
+        let wanted: std::collections::HashSet<(usize, usize)> = sessions.iter().copied().collect();
+        let idx: Vec<usize> = (0..self.rows.len())
+            .filter(|&i| {
+                let k = &self.rows[i];
+                wanted.contains(&(k.set as usize, k.session as usize))
+            })
+            .collect();
+        let binned = std::sync::OnceLock::new();
+        if let Some(b) = self.binned.get() {
+            let idx32: Vec<u32> = idx.iter().map(|&i| i as u32).collect();
+            let _ = binned.set(b.select_rows(&idx32));
+        }
+        Data {
+            rows: idx.iter().map(|&i| self.rows[i]).collect(),
+            x: self.x.select_rows(&idx),
+            won: idx.iter().map(|&i| self.won[i]).collect(),
+            draw: idx.iter().map(|&i| self.draw[i]).collect(),
+            binned,
+        }
+    }
 }
 
 struct Ctx<'a> {
@@ -811,7 +853,14 @@ pub fn train(
     if matches!(chosen, Chosen::Boosted(_)) {
         ctx.draw_rounds = boosted_draw_rounds;
     }
-    // Free the tuning tables before the final fit builds its own.
+    // With one validation fold, the fold's fitting rows become the final fit's rows (the
+    // fold's own sessions are appended below, binned with the same edges); other tuning tables
+    // are freed before the final fit.
+    let reused = if cv_folds.len() == 1 && fold_data.len() == 1 {
+        fold_data.pop().map(|(fit, _valid)| fit)
+    } else {
+        None
+    };
     drop(fold_data);
     ctx.timings.stage("tuning", stage_start);
     for t in &mut tuning {
@@ -873,14 +922,24 @@ pub fn train(
     // tables are fitted one at a time, after it, to bound memory.
     progress.report("final fit", 0.0);
     let stage_start = Instant::now();
-    let final_data = ctx.data(&train_sessions, true)?;
+    let final_data = match reused {
+        Some(mut fit) => {
+            fit.append(ctx.data(&fold_sessions(cv_folds[0], true), true)?)?;
+            fit
+        }
+        None => ctx.data(&train_sessions, true)?,
+    };
     let trained_rows = final_data.rows.len();
     let sub_rows: usize = smaller.iter().map(|&m| trained_rows * m / n.max(1)).sum();
     let curve_beside = sub_rows <= PARALLEL_CURVE_ROWS;
     let mut curve_data = Vec::new();
     if curve_beside {
+        if matches!(chosen, Chosen::Boosted(_)) {
+            // Bin once, so the subsets take their bins from the final rows.
+            final_data.binned(&ctx.bins)?;
+        }
         for &m in &smaller {
-            curve_data.push(ctx.data(&subset_of(m), true)?);
+            curve_data.push(final_data.sessions_subset(&subset_of(m)));
         }
     }
     let t0 = Instant::now();

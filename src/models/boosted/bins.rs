@@ -151,7 +151,7 @@ pub fn find_edges(x: &Matrix, max_bins: usize, seed: u64) -> Vec<BinEdges> {
 /// The entries outside bin 0 of a block of consecutive features, stored row by row: row `i`'s
 /// entries are `slots[row_start[i]..row_start[i + 1]]`, each the histogram slot
 /// (`offsets[feature] + bin − first_slot`) of one feature whose bin is not 0.
-#[derive(Debug, Clone, Default)]
+#[derive(Debug, Clone, Default, PartialEq)]
 pub struct FeatureGroup {
     /// Features in this group.
     pub features: std::ops::Range<usize>,
@@ -166,7 +166,7 @@ pub struct FeatureGroup {
 }
 
 /// The training data as bins.
-#[derive(Debug, Clone)]
+#[derive(Debug, Clone, PartialEq)]
 pub struct BinnedData {
     n_rows: usize,
     /// Edges per feature.
@@ -278,6 +278,86 @@ impl BinnedData {
         }
     }
 
+    /// Appends `other`'s rows after this data's rows. Both must have been binned with the same
+    /// edges (as by [`BinnedData::new`] with a clone of `self.edges`), and the rows together
+    /// must stay within the u32 entry offsets (`u32::MAX / MAX_FEATURES_PER_GROUP` rows);
+    /// otherwise returns `false` and leaves `self` unchanged.
+    pub fn append(&mut self, other: &BinnedData) -> bool {
+        let (n1, n2) = (self.n_rows, other.n_rows);
+        let n = n1 + n2;
+        if other.edges != self.edges || n > u32::MAX as usize / MAX_FEATURES_PER_GROUP {
+            return false;
+        }
+        let mut columns = vec![0u8; n * self.n_features()];
+        columns
+            .par_chunks_mut(n.max(1))
+            .enumerate()
+            .for_each(|(j, out)| {
+                out[..n1].copy_from_slice(&self.columns[j * n1..(j + 1) * n1]);
+                out[n1..].copy_from_slice(&other.columns[j * n2..(j + 1) * n2]);
+            });
+        self.columns = columns;
+        self.groups
+            .par_iter_mut()
+            .zip(&other.groups)
+            .for_each(|(g, o)| {
+                let base = g.slots.len() as u32;
+                g.slots.extend_from_slice(&o.slots);
+                g.row_start
+                    .extend(o.row_start[1..].iter().map(|&s| s + base));
+            });
+        self.n_rows = n;
+        true
+    }
+
+    /// The rows `rows` (in that order) of this binned data, with the same edges: what
+    /// [`BinnedData::new`] would give for those rows of the raw matrix, without binning again.
+    /// Indices must be below [`Self::n_rows`].
+    pub fn select_rows(&self, rows: &[u32]) -> BinnedData {
+        let n = self.n_rows;
+        let m = rows.len();
+        let mut columns = vec![0u8; m * self.n_features()];
+        columns
+            .par_chunks_mut(m.max(1))
+            .enumerate()
+            .for_each(|(j, out)| {
+                let col = &self.columns[j * n..(j + 1) * n];
+                for (o, &r) in out.iter_mut().zip(rows) {
+                    *o = col[r as usize];
+                }
+            });
+        let groups = self
+            .groups
+            .par_iter()
+            .map(|g| {
+                let mut row_start = Vec::with_capacity(m + 1);
+                let mut slots = Vec::new();
+                row_start.push(0u32);
+                for &r in rows {
+                    let r = r as usize;
+                    slots.extend_from_slice(
+                        &g.slots[g.row_start[r] as usize..g.row_start[r + 1] as usize],
+                    );
+                    row_start.push(slots.len() as u32);
+                }
+                FeatureGroup {
+                    features: g.features.clone(),
+                    first_slot: g.first_slot,
+                    n_slots: g.n_slots,
+                    row_start,
+                    slots,
+                }
+            })
+            .collect();
+        BinnedData {
+            n_rows: m,
+            edges: self.edges.clone(),
+            columns,
+            groups,
+            offsets: self.offsets.clone(),
+        }
+    }
+
     /// Number of rows.
     pub fn n_rows(&self) -> usize {
         self.n_rows
@@ -339,6 +419,43 @@ mod tests {
         assert!(e.upper.windows(2).all(|w| w[0] < w[1]), "{:?}", e.upper);
         assert_eq!(e.bin_of(f32::NEG_INFINITY), 0);
         assert_eq!(e.bin_of(f32::INFINITY), 3);
+    }
+
+    /// A small count table with zeros, repeats and a NaN, 5 columns wide.
+    fn counts(rows: usize, salt: usize) -> Matrix {
+        let values = (0..rows * 5)
+            .map(|k| match (k * 7 + salt) % 11 {
+                0..=4 => 0.0,
+                10 => f32::NAN,
+                v => (v * (k % 5 + 1)) as f32,
+            })
+            .collect();
+        Matrix::new(rows, 5, values).unwrap()
+    }
+
+    #[test]
+    fn appended_rows_equal_binning_the_stacked_matrix() {
+        let (a, b) = (counts(40, 0), counts(25, 3));
+        let edges = find_edges(&a, 255, 1);
+        let mut joined = BinnedData::new(&a, edges.clone());
+        assert!(joined.append(&BinnedData::new(&b, edges.clone())));
+        let mut stacked = a.clone();
+        stacked.append(&b).unwrap();
+        assert_eq!(joined, BinnedData::new(&stacked, edges));
+        // Other edges are refused, and nothing changes.
+        let before = joined.clone();
+        assert!(!joined.append(&BinnedData::new(&b, find_edges(&b, 3, 1))));
+        assert_eq!(joined, before);
+    }
+
+    #[test]
+    fn selected_rows_equal_binning_the_selected_raw_rows() {
+        let x = counts(60, 1);
+        let edges = find_edges(&x, 4, 2);
+        let all = BinnedData::new(&x, edges.clone());
+        let rows = [59usize, 0, 7, 7, 33];
+        let picked = all.select_rows(&rows.map(|r| r as u32));
+        assert_eq!(picked, BinnedData::new(&x.select_rows(&rows), edges));
     }
 
     #[test]
