@@ -182,61 +182,114 @@ pub struct BinnedData {
 /// Most features in one group (so a group's slots fit in u16 and its histogram in cache).
 pub const MAX_FEATURES_PER_GROUP: usize = 64;
 
-/// Features per group for `n_features` columns: about four groups, so two threads share the
-/// work while each row is visited only a few times (every visit of a scattered row is a cache
-/// miss). Depends only on the column count, never on the thread count.
-pub fn features_per_group(n_features: usize) -> usize {
-    n_features.div_ceil(4).clamp(4, MAX_FEATURES_PER_GROUP)
+/// Feature groups aimed at: so two threads share the work while each row is visited only a
+/// few times (every visit of a scattered row is a cache miss).
+const TARGET_GROUPS: usize = 4;
+
+/// Groups of consecutive features, each of at most [`MAX_FEATURES_PER_GROUP`], with about
+/// equal shares of the entries outside bin 0 (what a histogram pass reads), so the groups'
+/// tasks take about equally long. Depends only on the data, never on the thread count.
+fn group_layout(columns: &[u8], n_rows: usize, n_features: usize) -> Vec<std::ops::Range<usize>> {
+    if n_features == 0 {
+        return Vec::new();
+    }
+    // One more per feature: each also costs its bin-0 fill and split search.
+    let weight: Vec<usize> = columns
+        .par_chunks(n_rows.max(1))
+        .map(|c| c.iter().filter(|&&b| b != 0).count() + 1)
+        .collect();
+    let total: usize = weight.iter().sum();
+    let groups = TARGET_GROUPS.max(n_features.div_ceil(MAX_FEATURES_PER_GROUP));
+    let mut ranges = Vec::with_capacity(groups);
+    let (mut start, mut before, mut inside) = (0, 0, 0);
+    for (j, &w) in weight.iter().enumerate() {
+        inside += w;
+        let k = ranges.len() + 1;
+        let full = j + 1 - start == MAX_FEATURES_PER_GROUP;
+        if full || (k < groups && before + inside >= total * k / groups) {
+            ranges.push(start..j + 1);
+            before += inside;
+            inside = 0;
+            start = j + 1;
+        }
+    }
+    if start < n_features {
+        ranges.push(start..n_features);
+    }
+    ranges
 }
 
 /// Rows binned per parallel work item.
 const BIN_CHUNK_ROWS: usize = 8192;
 
+/// Column-major bins of every value of `x`.
+fn bin_columns(x: &Matrix, edges: &[BinEdges]) -> Vec<u8> {
+    let n = x.n_rows();
+    let p = x.n_cols();
+    let n_chunks = n.div_ceil(BIN_CHUNK_ROWS);
+    // Each chunk bins its rows into a small column-major block, copied into place after.
+    let blocks: Vec<Vec<u8>> = (0..n_chunks)
+        .into_par_iter()
+        .map(|c| {
+            let lo = c * BIN_CHUNK_ROWS;
+            let hi = ((c + 1) * BIN_CHUNK_ROWS).min(n);
+            let len = hi - lo;
+            let mut block = vec![0u8; len * p];
+            for i in lo..hi {
+                for (j, &v) in x.row(i).iter().enumerate() {
+                    block[j * len + (i - lo)] = edges[j].bin_of(v);
+                }
+            }
+            block
+        })
+        .collect();
+    let mut columns = vec![0u8; n * p];
+    columns
+        .par_chunks_mut(n.max(1))
+        .enumerate()
+        .for_each(|(j, col)| {
+            for (c, block) in blocks.iter().enumerate() {
+                let lo = c * BIN_CHUNK_ROWS;
+                let len = block.len() / p;
+                col[lo..lo + len].copy_from_slice(&block[j * len..(j + 1) * len]);
+            }
+        });
+    columns
+}
+
 impl BinnedData {
     /// Bins every value of `x` with `edges`.
     pub fn new(x: &Matrix, edges: Vec<BinEdges>) -> Self {
-        let n = x.n_rows();
-        let p = x.n_cols();
-        let n_chunks = n.div_ceil(BIN_CHUNK_ROWS);
-        // Each chunk bins its rows into a small column-major block, copied into place after.
-        let blocks: Vec<Vec<u8>> = (0..n_chunks)
-            .into_par_iter()
-            .map(|c| {
-                let lo = c * BIN_CHUNK_ROWS;
-                let hi = ((c + 1) * BIN_CHUNK_ROWS).min(n);
-                let len = hi - lo;
-                let mut block = vec![0u8; len * p];
-                for i in lo..hi {
-                    for (j, &v) in x.row(i).iter().enumerate() {
-                        block[j * len + (i - lo)] = edges[j].bin_of(v);
-                    }
-                }
-                block
-            })
-            .collect();
-        let mut columns = vec![0u8; n * p];
-        columns
-            .par_chunks_mut(n.max(1))
-            .enumerate()
-            .for_each(|(j, col)| {
-                for (c, block) in blocks.iter().enumerate() {
-                    let lo = c * BIN_CHUNK_ROWS;
-                    let len = block.len() / p;
-                    col[lo..lo + len].copy_from_slice(&block[j * len..(j + 1) * len]);
-                }
-            });
-        let mut offsets = Vec::with_capacity(p + 1);
+        let columns = bin_columns(x, &edges);
+        let layout = group_layout(&columns, x.n_rows(), x.n_cols());
+        Self::assemble(x.n_rows(), edges, columns, &layout)
+    }
+
+    /// Bins `x` with `like`'s edges and feature groups, so the result can be appended to it.
+    pub fn new_like(x: &Matrix, like: &BinnedData) -> Self {
+        let columns = bin_columns(x, &like.edges);
+        let layout: Vec<_> = like.groups.iter().map(|g| g.features.clone()).collect();
+        Self::assemble(x.n_rows(), like.edges.clone(), columns, &layout)
+    }
+
+    /// The binned data from column-major bins and a group layout.
+    fn assemble(
+        n: usize,
+        edges: Vec<BinEdges>,
+        columns: Vec<u8>,
+        layout: &[std::ops::Range<usize>],
+    ) -> Self {
+        let mut offsets = Vec::with_capacity(edges.len() + 1);
         let mut total = 0;
         for e in &edges {
             offsets.push(total);
             total += e.n_bins();
         }
         offsets.push(total);
-        let per_group = features_per_group(p);
-        let groups = (0..p.div_ceil(per_group))
-            .into_par_iter()
-            .map(|g| {
-                let features = g * per_group..((g + 1) * per_group).min(p);
+        let groups = layout
+            .par_iter()
+            .map(|features| {
+                let features = features.clone();
                 let first_slot = offsets[features.start];
                 let n_slots = offsets[features.end] - first_slot;
                 let cols: Vec<(&[u8], u16)> = features
@@ -278,14 +331,23 @@ impl BinnedData {
         }
     }
 
-    /// Appends `other`'s rows after this data's rows. Both must have been binned with the same
-    /// edges (as by [`BinnedData::new`] with a clone of `self.edges`), and the rows together
+    /// Appends `other`'s rows after this data's rows. Both must have the same edges and feature
+    /// groups (as `other` made by [`BinnedData::new_like`] with `self`), and the rows together
     /// must stay within the u32 entry offsets (`u32::MAX / MAX_FEATURES_PER_GROUP` rows);
     /// otherwise returns `false` and leaves `self` unchanged.
     pub fn append(&mut self, other: &BinnedData) -> bool {
         let (n1, n2) = (self.n_rows, other.n_rows);
         let n = n1 + n2;
-        if other.edges != self.edges || n > u32::MAX as usize / MAX_FEATURES_PER_GROUP {
+        let same_groups = self.groups.len() == other.groups.len()
+            && self
+                .groups
+                .iter()
+                .zip(&other.groups)
+                .all(|(a, b)| a.features == b.features);
+        if other.edges != self.edges
+            || !same_groups
+            || n > u32::MAX as usize / MAX_FEATURES_PER_GROUP
+        {
             return false;
         }
         let mut columns = vec![0u8; n * self.n_features()];
@@ -438,14 +500,43 @@ mod tests {
         let (a, b) = (counts(40, 0), counts(25, 3));
         let edges = find_edges(&a, 255, 1);
         let mut joined = BinnedData::new(&a, edges.clone());
-        assert!(joined.append(&BinnedData::new(&b, edges.clone())));
+        assert!(joined.append(&BinnedData::new_like(&b, &joined)));
         let mut stacked = a.clone();
         stacked.append(&b).unwrap();
-        assert_eq!(joined, BinnedData::new(&stacked, edges));
+        // Binning the stacked raw rows with the same edges and groups gives the same data.
+        assert_eq!(
+            joined,
+            BinnedData::new_like(&stacked, &BinnedData::new(&a, edges))
+        );
         // Other edges are refused, and nothing changes.
         let before = joined.clone();
         assert!(!joined.append(&BinnedData::new(&b, find_edges(&b, 3, 1))));
         assert_eq!(joined, before);
+    }
+
+    #[test]
+    fn groups_are_contiguous_capped_and_balanced_by_entries() {
+        // 200 features: the first 20 have an entry in every row, the rest in one row of ten.
+        let (n, p) = (50, 200);
+        let mut columns = vec![0u8; n * p];
+        for j in 0..p {
+            for i in 0..n {
+                if j < 20 || i % 10 == 0 {
+                    columns[j * n + i] = 1;
+                }
+            }
+        }
+        let layout = group_layout(&columns, n, p);
+        assert_eq!(layout.first().map(|r| r.start), Some(0));
+        assert_eq!(layout.last().map(|r| r.end), Some(p));
+        assert!(layout.windows(2).all(|w| w[0].end == w[1].start));
+        assert!(layout.iter().all(|r| r.len() <= MAX_FEATURES_PER_GROUP));
+        // By hand: weights (entries + 1) are 51 for the first 20 features and 6 for the rest,
+        // 2,100 in all, so the targets are 525, 1,050 and 1,575 cumulated. The first group
+        // closes after feature 10 (11 × 51 = 561), the second after feature 24 (1,020 + 5 × 6);
+        // the third would need 88 more features and stops at the cap of 64, and the rest
+        // (111 features) is cut at the cap too.
+        assert_eq!(layout, vec![0..11, 11..25, 25..89, 89..153, 153..200]);
     }
 
     #[test]

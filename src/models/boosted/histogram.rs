@@ -54,33 +54,86 @@ pub struct LeafRows<'a> {
     pub known_counts: Option<&'a [u64]>,
 }
 
-/// Fills `hist` (all features, laid out by `data.offsets`) for the leaf.
-pub fn build(hist: &mut [BinSums], data: &BinnedData, leaf: &LeafRows) {
-    let mut parts: Vec<(&FeatureGroup, &mut [BinSums])> = Vec::with_capacity(data.groups.len());
+/// Rows per histogram task: a leaf with more rows is summed in chunks of this many rows, each
+/// into its own partial histogram, and the partials are added in chunk order. The chunks
+/// depend only on the leaf's row count, so the sums do not depend on the thread count; they
+/// let two threads share a leaf evenly, where one task per feature group alone would not.
+const ROWS_PER_TASK: usize = 16_384;
+
+/// Fills `hist` (all features, laid out by `data.offsets`) for the leaf; `scratch` holds the
+/// partial histograms of a leaf's later row chunks (reused between calls).
+pub fn build(hist: &mut [BinSums], data: &BinnedData, leaf: &LeafRows, scratch: &mut Vec<BinSums>) {
+    let m = leaf.ordered.len();
+    let chunks = m.div_ceil(ROWS_PER_TASK).max(1);
+    let total = hist.len();
+    scratch.clear();
+    scratch.resize((chunks - 1) * total, BinSums::default());
+    {
+        // One task per (row chunk, group): chunk 0 sums into `hist`, the others into scratch.
+        let mut tasks: Vec<(&FeatureGroup, usize, &mut [BinSums])> =
+            Vec::with_capacity(chunks * data.groups.len());
+        let outputs = std::iter::once(&mut hist[..]).chain(scratch.chunks_mut(total.max(1)));
+        for (c, out) in outputs.enumerate().take(chunks) {
+            let mut rest = out;
+            for group in &data.groups {
+                let (head, tail) = rest.split_at_mut(group.n_slots);
+                tasks.push((group, c, head));
+                rest = tail;
+            }
+        }
+        tasks.par_iter_mut().for_each(|(group, c, h)| {
+            let lo = *c * ROWS_PER_TASK;
+            let hi = ((*c + 1) * ROWS_PER_TASK).min(m);
+            sum_chunk(h, group, leaf, lo..hi);
+        });
+    }
+    // Add the later chunks in order, then fill each feature's bin 0.
+    let mut heads: Vec<(&FeatureGroup, &mut [BinSums])> = Vec::with_capacity(data.groups.len());
     let mut rest = hist;
     for group in &data.groups {
         let (head, tail) = rest.split_at_mut(group.n_slots);
-        parts.push((group, head));
+        heads.push((group, head));
         rest = tail;
     }
-    parts
-        .par_iter_mut()
-        .for_each(|(group, h)| build_group(h, group, data, leaf));
+    let scratch = &scratch[..];
+    heads.par_iter_mut().for_each(|(group, h)| {
+        for c in 1..chunks {
+            let start = (c - 1) * total + group.first_slot;
+            for (a, b) in h.iter_mut().zip(&scratch[start..start + group.n_slots]) {
+                a.g += b.g;
+                a.h += b.h;
+                a.n += b.n;
+            }
+        }
+        finish_group(h, group, data, leaf);
+    });
 }
 
-/// Sums one feature group's entries for the leaf, then fills each feature's bin 0.
-fn build_group(h: &mut [BinSums], group: &FeatureGroup, data: &BinnedData, leaf: &LeafRows) {
+/// Sums rows `range` (positions in the leaf's row list) of one feature group into `h`.
+fn sum_chunk(
+    h: &mut [BinSums],
+    group: &FeatureGroup,
+    leaf: &LeafRows,
+    range: std::ops::Range<usize>,
+) {
     h.iter_mut().for_each(|b| *b = BinSums::default());
+    let ordered = &leaf.ordered[range.clone()];
+    if leaf.known_counts.is_some() {
+        sum_all_rows_gradients(h, group, ordered, range.start);
+    } else if leaf.all_rows {
+        sum_all_rows(h, group, ordered, range.start);
+    } else {
+        sum_leaf_rows(h, group, &leaf.rows[range], ordered);
+    }
+}
+
+/// Known counts in place of the summed ones, then each feature's bin 0 from the leaf total.
+fn finish_group(h: &mut [BinSums], group: &FeatureGroup, data: &BinnedData, leaf: &LeafRows) {
     if let Some(counts) = leaf.known_counts {
-        sum_all_rows_gradients(h, group, leaf.ordered);
         let counts = &counts[group.first_slot..group.first_slot + group.n_slots];
         for (b, &n) in h.iter_mut().zip(counts) {
             b.n = n;
         }
-    } else if leaf.all_rows {
-        sum_all_rows(h, group, leaf.ordered);
-    } else {
-        sum_leaf_rows(h, group, leaf.rows, leaf.ordered);
     }
     // Bin 0 of each feature is what its other bins leave of the leaf total.
     for j in group.features.clone() {
@@ -96,19 +149,24 @@ fn build_group(h: &mut [BinSums], group: &FeatureGroup, data: &BinnedData, leaf:
     }
 }
 
-/// Every row, counts known: only gradients and hessians are summed.
+/// Consecutive rows from `first`, counts known: only gradients and hessians are summed.
 #[inline(never)]
-fn sum_all_rows_gradients(h: &mut [BinSums], group: &FeatureGroup, gradients: &[[f32; 2]]) {
-    for (r, &gh) in gradients.iter().enumerate() {
-        add_row_gradients(h, group, r, gh);
+fn sum_all_rows_gradients(
+    h: &mut [BinSums],
+    group: &FeatureGroup,
+    gradients: &[[f32; 2]],
+    first: usize,
+) {
+    for (k, &gh) in gradients.iter().enumerate() {
+        add_row_gradients(h, group, first + k, gh);
     }
 }
 
-/// Every row, in order.
+/// Consecutive rows from `first`.
 #[inline(never)]
-fn sum_all_rows(h: &mut [BinSums], group: &FeatureGroup, gradients: &[[f32; 2]]) {
-    for (r, &gh) in gradients.iter().enumerate() {
-        add_row(h, group, r, gh);
+fn sum_all_rows(h: &mut [BinSums], group: &FeatureGroup, gradients: &[[f32; 2]], first: usize) {
+    for (k, &gh) in gradients.iter().enumerate() {
+        add_row(h, group, first + k, gh);
     }
 }
 

@@ -120,6 +120,8 @@ pub struct TreeLearner {
     pool: Vec<Vec<BinSums>>,
     /// Row counts per histogram slot of the all-rows root, filled by the first such tree.
     root_counts: Option<Vec<u64>>,
+    /// Partial histograms of a leaf's row chunks.
+    scratch: Vec<BinSums>,
 }
 
 impl TreeLearner {
@@ -165,7 +167,7 @@ impl TreeLearner {
                 None
             },
         };
-        histogram::build(&mut hist, input.data, &leaf_rows);
+        histogram::build(&mut hist, input.data, &leaf_rows, &mut self.scratch);
         if all_rows && self.root_counts.is_none() {
             self.root_counts = Some(hist.iter().map(|b| b.n).collect());
         }
