@@ -250,11 +250,11 @@ impl Data {
     }
 
     /// Appends `more`'s rows. When these rows are binned already, `more` is binned with the
-    /// same edges, so the bins of every fit on the joined rows match those tuning used.
+    /// same edges and groups, so the bins of every fit on the joined rows match tuning's.
     fn append(&mut self, more: Data) -> Result<(), FitError> {
         self.x.append(&more.x)?;
         if let Some(mut b) = self.binned.take() {
-            let extra = BinnedData::new(&more.x, b.edges.clone());
+            let extra = BinnedData::new_like(&more.x, &b);
             if b.append(&extra) {
                 self.binned = b.into();
             }
@@ -807,8 +807,17 @@ pub fn train(
                 (Some(b), Some((fit_data, valid_data)))
                     if fit_data.has_draws() && valid_data.has_draws() =>
                 {
+                    // Evaluated twice as often as the win model: a draw model keeps few
+                    // trees, and the patience then costs half as many unused ones.
+                    let draw_candidate = match &b.tuned {
+                        Chosen::Boosted(p) => Chosen::Boosted(BoostedParams {
+                            eval_every: p.eval_every.div_ceil(2),
+                            ..p.clone()
+                        }),
+                        other => other.clone(),
+                    };
                     match fit_one(
-                        &b.tuned,
+                        &draw_candidate,
                         fit_data,
                         &fit_data.draw,
                         Some((&valid_data.x, &valid_data.draw)),
