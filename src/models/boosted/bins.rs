@@ -59,7 +59,11 @@ pub fn edges_from_sample(mut values: Vec<f32>, max_bins: usize) -> BinEdges {
             !v.is_nan()
         }
     });
-    values.sort_unstable_by(f32::total_cmp);
+    // Sorted as integers: the order of `f32::total_cmp`, compared faster.
+    values.sort_unstable_by_key(|v| {
+        let b = v.to_bits() as i32;
+        b ^ (((b >> 31) as u32) >> 1) as i32
+    });
     // Distinct values with their counts.
     let mut distinct: Vec<(f32, usize)> = Vec::new();
     let push = |distinct: &mut Vec<(f32, usize)>, v: f32, n: usize| match distinct.last_mut() {
@@ -222,10 +226,17 @@ fn group_layout(columns: &[u8], n_rows: usize, n_features: usize) -> Vec<std::op
 /// Rows binned per parallel work item.
 const BIN_CHUNK_ROWS: usize = 8192;
 
+/// Whole values 0, 1, … below this have their bins looked up, not searched (counts are).
+const LOOKED_UP: usize = 64;
+
 /// Column-major bins of every value of `x`.
 fn bin_columns(x: &Matrix, edges: &[BinEdges]) -> Vec<u8> {
     let n = x.n_rows();
     let p = x.n_cols();
+    let lookup: Vec<[u8; LOOKED_UP]> = edges
+        .iter()
+        .map(|e| std::array::from_fn(|k| e.bin_of(k as f32)))
+        .collect();
     let n_chunks = n.div_ceil(BIN_CHUNK_ROWS);
     // Each chunk bins its rows into a small column-major block, copied into place after.
     let blocks: Vec<Vec<u8>> = (0..n_chunks)
@@ -237,7 +248,13 @@ fn bin_columns(x: &Matrix, edges: &[BinEdges]) -> Vec<u8> {
             let mut block = vec![0u8; len * p];
             for i in lo..hi {
                 for (j, &v) in x.row(i).iter().enumerate() {
-                    block[j * len + (i - lo)] = edges[j].bin_of(v);
+                    // NaN and negative values convert to 0 and fail the comparison.
+                    let k = v as usize;
+                    block[j * len + (i - lo)] = if k < LOOKED_UP && k as f32 == v {
+                        lookup[j][k]
+                    } else {
+                        edges[j].bin_of(v)
+                    };
                 }
             }
             block
@@ -473,6 +490,31 @@ mod tests {
         assert_eq!(e.upper, vec![-1.0, 0.5, 3.0]);
         assert_eq!(e.bin_of(-0.0), 1);
         assert_eq!(e.bin_of(0.0), 1);
+    }
+
+    #[test]
+    fn looked_up_bins_equal_searched_bins() {
+        let edges = edges_from_sample(vec![0.0, 1.0, 2.0, 5.0, 40.0, 63.0, 64.0, 70.5], 255);
+        let values = [
+            0.0,
+            -0.0,
+            1.0,
+            2.0,
+            3.0,
+            5.0,
+            39.0,
+            63.0,
+            64.0,
+            65.0,
+            2.5,
+            -1.0,
+            f32::NAN,
+        ];
+        let x = Matrix::new(values.len(), 1, values.to_vec()).unwrap();
+        let binned = BinnedData::new(&x, vec![edges.clone()]);
+        for (i, &v) in values.iter().enumerate() {
+            assert_eq!(binned.column(0)[i], edges.bin_of(v), "value {v}");
+        }
     }
 
     #[test]
