@@ -121,6 +121,36 @@ fn out_of_fold_chances_are_close_to_the_simulators_truth_and_calibrated() {
 }
 
 #[test]
+fn the_final_fit_uses_every_training_row_once() {
+    use tellturn::features::{TurnSample, build_training_table};
+    // The final fit joins the tuning fold's fitting rows and the fold's own sessions; its row
+    // count must be that of a table built afresh from every training session.
+    let (_dir, set) = demo_set("A", 120, 43);
+    let options = TrainOptions {
+        cross_fit: false,
+        learning_curve: false,
+        ..TrainOptions::default()
+    };
+    let training = train(&[&set], &options, &NoProgress, &Cancel::new()).unwrap();
+    let sessions: Vec<(usize, usize)> = training
+        .split
+        .train()
+        .into_iter()
+        .map(|i| training.finished[i])
+        .collect();
+    let table = build_training_table(
+        &training.model.spec,
+        &[&set],
+        &sessions,
+        TurnSample::All,
+        &Cancel::new(),
+    )
+    .unwrap();
+    assert_eq!(training.model.summary.trained_sessions, sessions.len());
+    assert_eq!(training.model.summary.trained_rows, table.rows.len());
+}
+
+#[test]
 fn the_learning_curve_reuses_the_tuning_model_and_falls_with_more_sessions() {
     let (_dir, set) = demo_set("A", 300, 41);
     let options = TrainOptions {
