@@ -54,17 +54,23 @@ pub struct LeafRows<'a> {
     pub known_counts: Option<&'a [u64]>,
 }
 
-/// Rows per histogram task: a leaf with more rows is summed in chunks of this many rows, each
-/// into its own partial histogram, and the partials are added in chunk order. The chunks
-/// depend only on the leaf's row count, so the sums do not depend on the thread count; they
-/// let two threads share a leaf evenly, where one task per feature group alone would not.
+/// Rows per histogram task: a leaf with at least twice as many rows is summed in up to
+/// [`MAX_CHUNKS`] equal chunks, each into its own partial histogram, and the partials are added
+/// in chunk order. The chunks depend only on the leaf's row count, so the sums do not depend on
+/// the thread count; they let two threads share a leaf evenly, where one task per feature group
+/// alone would not.
 const ROWS_PER_TASK: usize = 16_384;
+
+/// Most chunks per leaf: every partial histogram is zeroed and added once, which costs memory
+/// traffic in proportion to the slots, so big leaves get a few big chunks, not many.
+const MAX_CHUNKS: usize = 4;
 
 /// Fills `hist` (all features, laid out by `data.offsets`) for the leaf; `scratch` holds the
 /// partial histograms of a leaf's later row chunks (reused between calls).
 pub fn build(hist: &mut [BinSums], data: &BinnedData, leaf: &LeafRows, scratch: &mut Vec<BinSums>) {
     let m = leaf.ordered.len();
-    let chunks = m.div_ceil(ROWS_PER_TASK).max(1);
+    let chunks = (m / ROWS_PER_TASK).clamp(1, MAX_CHUNKS);
+    let chunk_rows = m.div_ceil(chunks);
     let total = hist.len();
     scratch.clear();
     scratch.resize((chunks - 1) * total, BinSums::default());
@@ -82,8 +88,8 @@ pub fn build(hist: &mut [BinSums], data: &BinnedData, leaf: &LeafRows, scratch: 
             }
         }
         tasks.par_iter_mut().for_each(|(group, c, h)| {
-            let lo = *c * ROWS_PER_TASK;
-            let hi = ((*c + 1) * ROWS_PER_TASK).min(m);
+            let lo = (*c * chunk_rows).min(m);
+            let hi = ((*c + 1) * chunk_rows).min(m);
             sum_chunk(h, group, leaf, lo..hi);
         });
     }
