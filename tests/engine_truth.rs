@@ -120,18 +120,26 @@ fn out_of_fold_chances_are_close_to_the_simulators_truth_and_calibrated() {
     assert!(ece <= 0.02, "ECE {ece}");
 }
 
+/// Default training without cross-fitting, with or without the learning curve.
+fn train_without_cross_fit(
+    set: &tellturn::sessions::SessionSet,
+    learning_curve: bool,
+) -> tellturn::evaluate::train::Training {
+    let options = TrainOptions {
+        cross_fit: false,
+        learning_curve,
+        ..TrainOptions::default()
+    };
+    train(&[set], &options, &NoProgress, &Cancel::new()).unwrap()
+}
+
 #[test]
 fn the_final_fit_uses_every_training_row_once() {
     use tellturn::features::{TurnSample, build_training_table};
     // The final fit joins the tuning fold's fitting rows and the fold's own sessions; its row
     // count must be that of a table built afresh from every training session.
     let (_dir, set) = demo_set("A", 120, 43);
-    let options = TrainOptions {
-        cross_fit: false,
-        learning_curve: false,
-        ..TrainOptions::default()
-    };
-    let training = train(&[&set], &options, &NoProgress, &Cancel::new()).unwrap();
+    let training = train_without_cross_fit(&set, false);
     let sessions: Vec<(usize, usize)> = training
         .split
         .train()
@@ -153,12 +161,7 @@ fn the_final_fit_uses_every_training_row_once() {
 #[test]
 fn the_learning_curve_reuses_the_tuning_model_and_falls_with_more_sessions() {
     let (_dir, set) = demo_set("A", 300, 41);
-    let options = TrainOptions {
-        cross_fit: false,
-        learning_curve: true,
-        ..TrainOptions::default()
-    };
-    let training = train(&[&set], &options, &NoProgress, &Cancel::new()).unwrap();
+    let training = train_without_cross_fit(&set, true);
     let curve = &training.learning_curve;
     let sessions: Vec<usize> = curve.iter().map(|p| p.sessions).collect();
     // 240 training sessions: 1/8 and 1/4 of them fitted for the curve, the tuning model on
