@@ -28,6 +28,14 @@ impl BinSums {
         self.n += 1;
     }
 
+    /// Adds `other`, field by field.
+    #[inline]
+    fn add_sums(&mut self, other: &BinSums) {
+        self.g += other.g;
+        self.h += other.h;
+        self.n += other.n;
+    }
+
     /// `self − other`, field by field.
     #[inline]
     pub fn minus(self, other: BinSums) -> BinSums {
@@ -72,47 +80,54 @@ pub fn build(hist: &mut [BinSums], data: &BinnedData, leaf: &LeafRows, scratch: 
     let chunks = (m / ROWS_PER_TASK).clamp(1, MAX_CHUNKS);
     let chunk_rows = m.div_ceil(chunks);
     let total = hist.len();
-    scratch.clear();
+    // Every task zeroes its own slice first, so old scratch contents need no clearing.
     scratch.resize((chunks - 1) * total, BinSums::default());
     {
         // One task per (row chunk, group): chunk 0 sums into `hist`, the others into scratch.
-        let mut tasks: Vec<(&FeatureGroup, usize, &mut [BinSums])> =
-            Vec::with_capacity(chunks * data.groups.len());
         let outputs = std::iter::once(&mut hist[..]).chain(scratch.chunks_mut(total.max(1)));
-        for (c, out) in outputs.enumerate().take(chunks) {
-            let mut rest = out;
-            for group in &data.groups {
-                let (head, tail) = rest.split_at_mut(group.n_slots);
-                tasks.push((group, c, head));
-                rest = tail;
-            }
-        }
-        tasks.par_iter_mut().for_each(|(group, c, h)| {
+        let mut tasks: Vec<(usize, &FeatureGroup, &mut [BinSums])> = outputs
+            .take(chunks)
+            .enumerate()
+            .flat_map(|(c, out)| {
+                by_group(out, &data.groups)
+                    .into_iter()
+                    .map(move |(g, h)| (c, g, h))
+            })
+            .collect();
+        tasks.par_iter_mut().for_each(|(c, group, h)| {
             let lo = (*c * chunk_rows).min(m);
             let hi = ((*c + 1) * chunk_rows).min(m);
             sum_chunk(h, group, leaf, lo..hi);
         });
     }
     // Add the later chunks in order, then fill each feature's bin 0.
-    let mut heads: Vec<(&FeatureGroup, &mut [BinSums])> = Vec::with_capacity(data.groups.len());
+    let scratch = &scratch[..(chunks - 1) * total];
+    by_group(hist, &data.groups)
+        .par_iter_mut()
+        .for_each(|(group, h)| {
+            for c in 1..chunks {
+                let start = (c - 1) * total + group.first_slot;
+                for (a, b) in h.iter_mut().zip(&scratch[start..start + group.n_slots]) {
+                    a.add_sums(b);
+                }
+            }
+            finish_group(h, group, data, leaf);
+        });
+}
+
+/// `hist` cut into each group's slots, in group order.
+fn by_group<'a>(
+    hist: &'a mut [BinSums],
+    groups: &'a [FeatureGroup],
+) -> Vec<(&'a FeatureGroup, &'a mut [BinSums])> {
+    let mut parts = Vec::with_capacity(groups.len());
     let mut rest = hist;
-    for group in &data.groups {
-        let (head, tail) = rest.split_at_mut(group.n_slots);
-        heads.push((group, head));
+    for group in groups {
+        let (head, tail) = std::mem::take(&mut rest).split_at_mut(group.n_slots);
+        parts.push((group, head));
         rest = tail;
     }
-    let scratch = &scratch[..];
-    heads.par_iter_mut().for_each(|(group, h)| {
-        for c in 1..chunks {
-            let start = (c - 1) * total + group.first_slot;
-            for (a, b) in h.iter_mut().zip(&scratch[start..start + group.n_slots]) {
-                a.g += b.g;
-                a.h += b.h;
-                a.n += b.n;
-            }
-        }
-        finish_group(h, group, data, leaf);
-    });
+    parts
 }
 
 /// Sums rows `range` (positions in the leaf's row list) of one feature group into `h`.
@@ -147,9 +162,7 @@ fn finish_group(h: &mut [BinSums], group: &FeatureGroup, data: &BinnedData, leaf
         let hi = data.offsets[j + 1] - group.first_slot;
         let mut others = BinSums::default();
         for b in &h[lo + 1..hi] {
-            others.g += b.g;
-            others.h += b.h;
-            others.n += b.n;
+            others.add_sums(b);
         }
         h[lo] = leaf.totals.minus(others);
     }
