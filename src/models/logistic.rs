@@ -80,8 +80,9 @@ impl LogisticParams {
     }
 
     /// [`Self::fit`] started from an earlier fit on the same rows (`start`, usually with a
-    /// neighbouring penalty): the same minimum, reached in fewer iterations. A start fitted on
-    /// other rows or columns is ignored (its standardised scale would not match).
+    /// neighbouring penalty) or on a subset of them: the same minimum, reached in fewer
+    /// iterations. A start fitted on other rows is carried over to this fit's column scale
+    /// (the same linear predictor); one with another column count is ignored.
     pub fn fit_from(
         &self,
         x: &Matrix,
@@ -106,16 +107,8 @@ impl LogisticParams {
             &scaling.free,
         );
         let start_theta: Option<Vec<f64>> = start
-            .filter(|s| {
-                s.means == scaling.means
-                    && s.scales == scaling.scales
-                    && s.estimated == scaling.free
-            })
-            .map(|s| {
-                let mut t = s.coefficients.clone();
-                t.push(s.intercept);
-                t
-            });
+            .filter(|s| s.coefficients.len() == x.n_cols())
+            .map(|s| start_on_scale(s, &scaling.means, &scaling.scales, &scaling.free));
         let outcome =
             trust_region::minimise(&design, self, start_theta.as_deref(), progress, cancel)?;
         let p = x.n_cols();
@@ -137,6 +130,32 @@ impl LogisticParams {
             converged: outcome.converged,
         })
     }
+}
+
+/// `start`'s coefficients (and intercept, last) on the standardised scale given by `means`,
+/// `scales` and `free`: the same linear predictor on every row, so a fit on other rows (with
+/// other column means and scales) starts where that fit ended.
+fn start_on_scale(start: &Logistic, means: &[f64], scales: &[f64], free: &[bool]) -> Vec<f64> {
+    if start.means == means && start.scales == scales && start.estimated == free {
+        let mut t = start.coefficients.clone();
+        t.push(start.intercept);
+        return t;
+    }
+    let raw = start.raw_coefficients();
+    let mut intercept = start.raw_intercept();
+    let mut t: Vec<f64> = raw
+        .iter()
+        .zip(scales)
+        .zip(free)
+        .zip(means)
+        .map(|(((&u, &s), &f), &m)| {
+            // A column not estimated here is constant (its mean): its part joins the intercept.
+            intercept += u * m;
+            if f { u * s } else { 0.0 }
+        })
+        .collect();
+    t.push(intercept);
+    t
 }
 
 /// A fitted logistic regression.

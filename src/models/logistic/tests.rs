@@ -357,7 +357,7 @@ fn a_warm_start_reaches_the_cold_start_minimum() {
         warm.iterations,
         cold.iterations
     );
-    // A start fitted on other rows (another standardisation) is ignored: same as cold.
+    // A start with another column count is ignored: same as cold.
     let (cx, cy) = challenger();
     let other = params(0.1)
         .fit(&cx, &cy, None, &NoProgress, &Cancel::new())
@@ -366,4 +366,57 @@ fn a_warm_start_reaches_the_cold_start_minimum() {
         .fit_from(&x, &y, None, Some(&other), &NoProgress, &Cancel::new())
         .unwrap();
     assert_eq!(ignored, cold);
+}
+
+#[test]
+fn a_start_fitted_on_some_of_the_rows_is_carried_to_the_new_scale() {
+    // A fit on the first 400 rows has other column means and scales. Carried over, it must
+    // give the same margins on every row (the same linear predictor, recomputed here on the
+    // raw scale), and the full fit started from it must land on the cold-start minimum
+    // (strict convexity, as above).
+    let (x, y) = breast_cancer();
+    let first: Vec<usize> = (0..400).collect();
+    let part = x.select_rows(&first);
+    let params = LogisticParams {
+        l2: 0.01,
+        ..LogisticParams::default()
+    };
+    let sub = params
+        .fit(&part, &y[..400], None, &NoProgress, &Cancel::new())
+        .unwrap();
+    let scaling = scaling::column_scaling(&x, true);
+    assert_ne!(scaling.means, sub.means);
+    let theta = start_on_scale(&sub, &scaling.means, &scaling.scales, &scaling.free);
+    let raw = sub.raw_coefficients();
+    let raw_c = sub.raw_intercept();
+    for i in 0..x.n_rows() {
+        let row = x.row(i);
+        let expected: f64 = raw_c
+            + row
+                .iter()
+                .zip(&raw)
+                .map(|(&v, &u)| f64::from(v) * u)
+                .sum::<f64>();
+        let carried: f64 = theta[row.len()]
+            + row
+                .iter()
+                .enumerate()
+                .map(|(j, &v)| (f64::from(v) - scaling.means[j]) / scaling.scales[j] * theta[j])
+                .sum::<f64>();
+        assert!(
+            (expected - carried).abs() < 1e-9 * (1.0 + expected.abs()),
+            "row {i}"
+        );
+    }
+    let cold = params
+        .fit(&x, &y, None, &NoProgress, &Cancel::new())
+        .unwrap();
+    let warm = params
+        .fit_from(&x, &y, None, Some(&sub), &NoProgress, &Cancel::new())
+        .unwrap();
+    assert!(cold.converged && warm.converged);
+    for (a, b) in cold.coefficients.iter().zip(&warm.coefficients) {
+        assert!((a - b).abs() < 1e-4, "{a} vs {b}");
+    }
+    assert!((cold.intercept - warm.intercept).abs() < 1e-4);
 }
