@@ -289,6 +289,14 @@ impl BinnedData {
         Self::assemble(x.n_rows(), like.edges.clone(), columns, &layout)
     }
 
+    /// Bins `x` with `like`'s edges for prediction on bins only ([`super::Tree::predict_binned`]):
+    /// no row-wise entry lists, so it cannot be grown on. A tree walks one column at a time
+    /// over many rows, which stays in cache where raw rows would not.
+    pub fn for_prediction(x: &Matrix, like: &BinnedData) -> Self {
+        let columns = bin_columns(x, &like.edges);
+        Self::assemble(x.n_rows(), like.edges.clone(), columns, &[])
+    }
+
     /// The binned data from column-major bins and a group layout.
     fn assemble(
         n: usize,

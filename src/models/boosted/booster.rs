@@ -7,7 +7,7 @@ use rand_chacha::ChaCha8Rng;
 use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
 
-use super::super::fit_error::FitError;
+use super::super::fit_error::{FitError, ParamError};
 use super::super::logistic::{sigmoid, softplus};
 use super::super::matrix::Matrix;
 use super::super::weighted_rows::check_labels_and_weights;
@@ -81,6 +81,122 @@ fn log_odds_of_mean(y: &[f32], weights: Option<&[f32]>) -> f64 {
     (mean / (1.0 - mean)).ln()
 }
 
+/// Rows whose labels set every new tree's leaf values, when they are not the rows the trees
+/// are grown on: for example every turn of some sessions, with the trees grown on one turn in
+/// two. They must be binned with the growth rows' edges and include those rows' positions.
+#[derive(Clone, Copy)]
+pub struct ValueRows<'a> {
+    /// The binned rows (the growth rows' edges).
+    pub data: &'a BinnedData,
+    /// The rows of `data` to use (increasing), or `None` for all.
+    pub rows: Option<&'a [u32]>,
+    /// Labels, indexed by row of `data`.
+    pub y: &'a [f32],
+    /// Optional weights, indexed by row of `data`.
+    pub weights: Option<&'a [f32]>,
+}
+
+/// Leaf values for `tree` from `rows` of `data` at their current margins `scores` (one per
+/// listed row): each leaf's Newton value −G/(H + λ) times the learning rate, or its old value
+/// when no row of positive weight reaches it. Writes each row's leaf to `leaf_of` and adds the
+/// new values to `scores`. Sums are added in fixed chunk order (thread-count independent).
+#[allow(clippy::too_many_arguments)]
+fn newton_leaf_values(
+    tree: &Tree,
+    data: &BinnedData,
+    rows: &[u32],
+    y: &[f32],
+    weights: Option<&[f32]>,
+    scores: &mut [f64],
+    leaf_of: &mut [u32],
+    params: &BoostedParams,
+) -> Vec<f64> {
+    let leaves = tree.n_leaves();
+    let weight = |i: usize| weights.map_or(1.0, |w| f64::from(w[i]));
+    let partials: Vec<Vec<(f64, f64)>> = leaf_of
+        .par_chunks_mut(CHUNK_ROWS)
+        .zip(scores.par_chunks(CHUNK_ROWS))
+        .zip(rows.par_chunks(CHUNK_ROWS))
+        .map(|((chunk_leaves, chunk_scores), chunk_rows)| {
+            let mut sums = vec![(0.0, 0.0); leaves];
+            for ((l, &z), &r) in chunk_leaves.iter_mut().zip(chunk_scores).zip(chunk_rows) {
+                let i = r as usize;
+                let leaf = tree.leaf_binned(data, i);
+                *l = leaf as u32;
+                let w = weight(i);
+                let prob = sigmoid(z);
+                let e = &mut sums[leaf];
+                e.0 += w * (prob - f64::from(y[i]));
+                e.1 += w * prob * (1.0 - prob);
+            }
+            sums
+        })
+        .collect();
+    let mut sums = vec![(0.0f64, 0.0f64); leaves];
+    for part in &partials {
+        for (a, b) in sums.iter_mut().zip(part) {
+            a.0 += b.0;
+            a.1 += b.1;
+        }
+    }
+    let values: Vec<f64> = sums
+        .iter()
+        .zip(&tree.leaf_values)
+        .map(|(&(g, h), &old)| {
+            if h > 0.0 {
+                -g / (h + params.l2_leaf) * params.learning_rate
+            } else {
+                old
+            }
+        })
+        .collect();
+    scores
+        .par_chunks_mut(CHUNK_ROWS)
+        .zip(leaf_of.par_chunks(CHUNK_ROWS))
+        .for_each(|(s, l)| {
+            for (v, &leaf) in s.iter_mut().zip(l) {
+                *v += values[leaf as usize];
+            }
+        });
+    values
+}
+
+/// The listed rows, or every row of `data`, checked to be in range.
+fn rows_or_all<'a>(
+    data: &BinnedData,
+    rows: Option<&'a [u32]>,
+    all: &'a mut Vec<u32>,
+) -> Result<&'a [u32], FitError> {
+    let rows = match rows {
+        Some(r) => r,
+        None => {
+            *all = (0..data.n_rows() as u32).collect();
+            all
+        }
+    };
+    if let Some(&bad) = rows.iter().find(|&&r| r as usize >= data.n_rows()) {
+        return Err(ParamError::new(
+            "rows",
+            format!("row {bad} is past the {} rows", data.n_rows()),
+        )
+        .into());
+    }
+    if rows.is_empty() {
+        return Err(FitError::Empty("no rows to set leaf values on"));
+    }
+    Ok(rows)
+}
+
+/// Log-odds of the weighted mean label over `rows`.
+fn log_odds_of_rows(rows: &[u32], y: &[f32], weights: Option<&[f32]>) -> f64 {
+    let (s, t) = rows.iter().fold((0.0, 0.0), |(s, t), &r| {
+        let w = weights.map_or(1.0, |w| f64::from(w[r as usize]));
+        (s + w * f64::from(y[r as usize]), t + w)
+    });
+    let mean = (s / t).clamp(1e-12, 1.0 - 1e-12);
+    (mean / (1.0 - mean)).ln()
+}
+
 impl BoostedParams {
     /// Fits boosted trees with log loss to rows `x`, labels `y` in 0..=1 and optional
     /// non-negative weights. With `valid`, the validation log loss is measured every
@@ -134,6 +250,25 @@ impl BoostedParams {
         progress: &dyn Progress,
         cancel: &Cancel,
     ) -> Result<Boosted, FitError> {
+        self.fit_binned_valued(data, y, weights, None, valid, progress, cancel)
+    }
+
+    /// [`Self::fit_binned`], with every tree's leaf values set on `values` when given (grown
+    /// on `data`, valued on other rows, such as every turn when `data` holds one turn in two):
+    /// the starting margin comes from `values`' labels, each tree is grown on the gradients of
+    /// `data` at the model's margins so far, then its leaves get their Newton values on
+    /// `values`, and early stopping judges that model.
+    #[allow(clippy::too_many_arguments)]
+    pub fn fit_binned_valued(
+        &self,
+        data: &BinnedData,
+        y: &[f32],
+        weights: Option<&[f32]>,
+        values: Option<ValueRows>,
+        valid: Option<(&Matrix, &[f32])>,
+        progress: &dyn Progress,
+        cancel: &Cancel,
+    ) -> Result<Boosted, FitError> {
         self.check()?;
         check_labels_and_weights(data.n_rows(), y, weights)?;
         if data.n_features() == 0 {
@@ -161,9 +296,32 @@ impl BoostedParams {
         cancel.check()?;
         let n = data.n_rows();
         let p = data.n_features();
-        let base_score = log_odds_of_mean(y, weights);
+        let mut all_values = Vec::new();
+        let value_rows = match &values {
+            Some(v) => {
+                check_labels_and_weights(v.data.n_rows(), v.y, v.weights)?;
+                if v.data.n_features() != p {
+                    return Err(FitError::ColumnMismatch {
+                        what: "leaf-value rows",
+                        expected: p,
+                        actual: v.data.n_features(),
+                    });
+                }
+                Some(rows_or_all(v.data, v.rows, &mut all_values)?)
+            }
+            None => None,
+        };
+        let base_score = match (&values, value_rows) {
+            (Some(v), Some(rows)) => log_odds_of_rows(rows, v.y, v.weights),
+            _ => log_odds_of_mean(y, weights),
+        };
+        let mut value_scores = vec![base_score; value_rows.map_or(0, <[u32]>::len)];
+        let mut value_leaf = vec![0u32; value_scores.len()];
         let mut scores = vec![base_score; n];
         let mut valid_scores = valid.map(|(vx, _)| vec![base_score; vx.n_rows()]);
+        // Validation rows binned with the training edges: each new tree is walked on bins,
+        // which gives the same leaf as the raw values (value ≤ edge ⇔ bin ≤ the edge's bin).
+        let valid_bins = valid.map(|(vx, _)| BinnedData::for_prediction(vx, data));
         let mut gradients = vec![[0.0f32; 2]; n];
         let mut learner = TreeLearner::default();
         let mut trees: Vec<Tree> = Vec::new();
@@ -214,7 +372,7 @@ impl BoostedParams {
                         ];
                     }
                 });
-            let tree = learner.grow(&GrowInput {
+            let mut tree = learner.grow(&GrowInput {
                 data,
                 gradients: &gradients,
                 rows: in_bag.as_deref(),
@@ -222,13 +380,25 @@ impl BoostedParams {
                 active_list: &active_list,
                 params: self,
             });
+            if let (Some(v), Some(rows)) = (&values, value_rows) {
+                tree.leaf_values = newton_leaf_values(
+                    &tree,
+                    v.data,
+                    rows,
+                    v.y,
+                    v.weights,
+                    &mut value_scores,
+                    &mut value_leaf,
+                    self,
+                );
+            }
             Self::update_scores(&mut scores, &tree, &learner, data);
-            if let (Some(vs), Some((vx, _))) = (valid_scores.as_mut(), valid) {
+            if let (Some(vs), Some(vb)) = (valid_scores.as_mut(), valid_bins.as_ref()) {
                 vs.par_chunks_mut(CHUNK_ROWS)
                     .enumerate()
                     .for_each(|(c, s)| {
                         for (k, v) in s.iter_mut().enumerate() {
-                            *v += tree.predict_row(vx.row(c * CHUNK_ROWS + k));
+                            *v += tree.predict_binned(vb, c * CHUNK_ROWS + k);
                         }
                     });
             }
@@ -305,6 +475,65 @@ impl BoostedParams {
 }
 
 impl Boosted {
+    /// The same trees with every leaf value estimated again, round by round, on rows of
+    /// `data` (binned with the edges the trees were grown on, such as a superset of their
+    /// training rows): all rows, or the listed ones. The starting margin comes from the new
+    /// labels, then for each tree in turn each leaf gets the Newton value −G/(H + λ) of its
+    /// rows at the margins so far, times the learning rate (`params.l2_leaf`,
+    /// `params.learning_rate`). A leaf that no row of positive weight reaches keeps its value.
+    /// Sums are added in fixed chunk order, so the result does not depend on the thread count.
+    /// `y` and `weights` are indexed by row of `data`.
+    pub fn refit(
+        &self,
+        data: &BinnedData,
+        rows: Option<&[u32]>,
+        y: &[f32],
+        weights: Option<&[f32]>,
+        params: &BoostedParams,
+        cancel: &Cancel,
+    ) -> Result<Boosted, FitError> {
+        params.check()?;
+        check_labels_and_weights(data.n_rows(), y, weights)?;
+        if data.n_features() != self.n_features {
+            return Err(FitError::ColumnMismatch {
+                what: "refit rows",
+                expected: self.n_features,
+                actual: data.n_features(),
+            });
+        }
+        let mut all = Vec::new();
+        let rows = rows_or_all(data, rows, &mut all)?;
+        let base_score = log_odds_of_rows(rows, y, weights);
+        let mut scores = vec![base_score; rows.len()];
+        let mut leaf_of = vec![0u32; rows.len()];
+        let mut trees = Vec::with_capacity(self.trees.len());
+        for tree in &self.trees {
+            cancel.check()?;
+            let leaf_values = newton_leaf_values(
+                tree,
+                data,
+                rows,
+                y,
+                weights,
+                &mut scores,
+                &mut leaf_of,
+                params,
+            );
+            trees.push(Tree {
+                nodes: tree.nodes.clone(),
+                leaf_values,
+            });
+        }
+        Ok(Boosted {
+            n_features: self.n_features,
+            base_score,
+            best_rounds: trees.len(),
+            trees,
+            history: Vec::new(),
+            feature_importance: self.feature_importance.clone(),
+        })
+    }
+
     /// The log-odds for each row; a matrix with the wrong column count gives NaN margins.
     pub fn predict_margin(&self, x: &Matrix) -> Vec<f64> {
         if x.n_cols() != self.n_features {

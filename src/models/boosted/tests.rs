@@ -428,3 +428,115 @@ fn fitting_on_rows_binned_beforehand_gives_the_identical_model() {
     let wrong = params.fit_binned(&binned, &y[..10], None, None, &NoProgress, &Cancel::new());
     assert!(wrong.is_err());
 }
+
+/// A stump on feature 0 (bin 0 left, bin 1 right) with leaf values that refit must replace.
+fn stump() -> Tree {
+    Tree {
+        nodes: vec![tree::Node {
+            feature: 0,
+            threshold_bin: 0,
+            threshold: 0.5,
+            left: !0,
+            right: !1,
+            gain: 1.0,
+        }],
+        leaf_values: vec![9.0, -9.0],
+    }
+}
+
+#[test]
+fn refit_sets_each_leaf_to_its_newton_value_round_by_round() {
+    // Hand computation (gradient boosting with log loss, Newton leaf values −G/(H + λ)·η;
+    // Friedman 2001 and the usual second-order form): x = 0,0,1,1,1,0 and y = 1,0,1,1,0,0,
+    // so the base margin is logit(3/6) = 0 and every p is 1/2 in round 1. Left rows 0,1,5:
+    // G = −½ + ½ + ½ = ½, H = 3/4; right rows 2,3,4: G = −½, H = 3/4. With λ = 1, η = 0.5
+    // the leaves are ∓(½ / 1.75)·0.5 = ∓1/7. Round 2 starts from margins ∓1/7.
+    let x = Matrix::new(6, 1, vec![0.0, 0.0, 1.0, 1.0, 1.0, 0.0]).unwrap();
+    let y = [1.0, 0.0, 1.0, 1.0, 0.0, 0.0];
+    let params = BoostedParams {
+        learning_rate: 0.5,
+        l2_leaf: 1.0,
+        ..BoostedParams::default()
+    };
+    let data = params.bin(&x).unwrap();
+    let model = Boosted {
+        n_features: 1,
+        base_score: 3.0,
+        trees: vec![stump(), stump()],
+        best_rounds: 2,
+        history: Vec::new(),
+        feature_importance: vec![2.0],
+    };
+    let refit = model
+        .refit(&data, None, &y, None, &params, &Cancel::new())
+        .unwrap();
+    assert!(refit.base_score.abs() < 1e-12);
+    let v1 = 1.0 / 7.0;
+    assert!((refit.trees[0].leaf_values[0] + v1).abs() < 1e-12);
+    assert!((refit.trees[0].leaf_values[1] - v1).abs() < 1e-12);
+    // Round 2, by hand: left margin −1/7 (p = σ(−1/7)), right +1/7.
+    let sig = |z: f64| 1.0 / (1.0 + (-z).exp());
+    let (pl, pr) = (sig(-v1), sig(v1));
+    let (gl, hl) = (3.0 * pl - 1.0, 3.0 * pl * (1.0 - pl));
+    let (gr, hr) = (3.0 * pr - 2.0, 3.0 * pr * (1.0 - pr));
+    assert!((refit.trees[1].leaf_values[0] - (-gl / (hl + 1.0) * 0.5)).abs() < 1e-12);
+    assert!((refit.trees[1].leaf_values[1] - (-gr / (hr + 1.0) * 0.5)).abs() < 1e-12);
+    // Shapes and importance are kept.
+    assert_eq!(refit.trees[0].nodes, model.trees[0].nodes);
+    assert_eq!(refit.feature_importance, model.feature_importance);
+
+    // Only rows 1,2,3,5 (y = 0,1,1,0: base 0 again): left rows 1,5 have G = 1, H = ½, so
+    // −1/1.5·0.5 = −1/3; right rows 2,3 have G = −1, H = ½: +1/3.
+    let some = model
+        .refit(
+            &data,
+            Some(&[1, 2, 3, 5]),
+            &y,
+            None,
+            &params,
+            &Cancel::new(),
+        )
+        .unwrap();
+    assert!((some.trees[0].leaf_values[0] + 1.0 / 3.0).abs() < 1e-12);
+    assert!((some.trees[0].leaf_values[1] - 1.0 / 3.0).abs() < 1e-12);
+
+    // A row past the end, and another column count, are errors, not panics.
+    assert!(
+        model
+            .refit(&data, Some(&[6]), &y, None, &params, &Cancel::new())
+            .is_err()
+    );
+    let wide = Matrix::new(6, 2, vec![0.0; 12]).unwrap();
+    let wide_bins = params.bin(&wide).unwrap();
+    assert!(matches!(
+        model.refit(&wide_bins, None, &y, None, &params, &Cancel::new()),
+        Err(FitError::ColumnMismatch { .. })
+    ));
+}
+
+#[test]
+fn trees_walked_on_prediction_bins_land_where_raw_values_do() {
+    // The validation rows are scored on bins during boosting; every tree must give the same
+    // output on the bins as on the raw values (held-out rows, so values between and beyond
+    // the training edges occur).
+    let (x, y) = esl_10_2(3000, 21);
+    let (vx, _) = esl_10_2(1000, 22);
+    let params = BoostedParams {
+        max_rounds: 30,
+        ..BoostedParams::default()
+    };
+    let data = params.bin(&x).unwrap();
+    let model = params
+        .fit_binned(&data, &y, None, None, &NoProgress, &Cancel::new())
+        .unwrap();
+    let vb = bins::BinnedData::for_prediction(&vx, &data);
+    for t in &model.trees {
+        for i in 0..vx.n_rows() {
+            assert_eq!(
+                t.predict_binned(&vb, i),
+                t.predict_row(vx.row(i)),
+                "row {i}"
+            );
+        }
+    }
+}

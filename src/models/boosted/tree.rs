@@ -81,6 +81,28 @@ impl Tree {
         }
     }
 
+    /// The leaf that training row `i` lands in, read from its bins.
+    #[inline]
+    pub fn leaf_binned(&self, data: &BinnedData, i: usize) -> usize {
+        if self.nodes.is_empty() {
+            return 0;
+        }
+        let mut at = 0usize;
+        loop {
+            let node = &self.nodes[at];
+            let b = data.column(node.feature as usize)[i];
+            let child = if b <= node.threshold_bin {
+                node.left
+            } else {
+                node.right
+            };
+            if child < 0 {
+                return !child as usize;
+            }
+            at = child as usize;
+        }
+    }
+
     /// Number of leaves.
     pub fn n_leaves(&self) -> usize {
         self.leaf_values.len()
