@@ -109,14 +109,16 @@ fn out_of_fold_chances_are_close_to_the_simulators_truth_and_calibrated() {
     );
     // The truth is the floor no model can beat on average (up to rollout noise).
     assert!(model_loss > truth_loss - 0.01);
-    // Measured (seed 21, 600 sessions): model 0.457 against the floor 0.3955. Most of the gap
+    // Measured (seed 21, 600 sessions): model 0.463 against the floor 0.3955 (the same with
+    // trees grown on every turn and regrown for the final model). Most of the gap
     // is knowledge the log cannot carry early in a game: the truth knows both players' hidden
     // skills from turn 1, the model has to read them from how the game goes.
     assert!(
         model_loss - truth_loss < 0.085,
         "{model_loss} vs floor {truth_loss}"
     );
-    // Calibration: the engine issue's bar (ECE ≤ 0.02); measured 0.008, the truth's own 0.014.
+    // Calibration: the engine issue's bar (ECE ≤ 0.02); measured 0.010 (0.012 with every turn
+    // and regrowth), the truth's own 0.014.
     assert!(ece <= 0.02, "ECE {ece}");
 }
 

@@ -7,6 +7,7 @@ use crate::analysis::traces::{Trace, TraceSource};
 use crate::features::{
     FeatureParams, FeatureSpec, TurnSample, TurnTable, build_table, build_training_table,
 };
+use crate::models::boosted::ValueRows;
 use crate::models::boosted::bins::BinnedData;
 use crate::models::win_model::{Fitted, ModelSummary, WinModel, normalise};
 use crate::models::{BoostedParams, FitError, LogisticParams, Matrix};
@@ -27,6 +28,13 @@ pub enum ModelChoice {
     /// Boosted trees.
     Boosted,
 }
+
+/// Mean turns per training session from which tuning and tree growth use one turn in two
+/// ([`TrainOptions::sampled_growth`]). Our own rule of thumb: on 1,500-session board-game demos
+/// (about 54 turns) the sample left held-out log loss within noise, while on tic-tac-toe
+/// (at most 9 turns, each position far from the last) it lifted the error against exact
+/// chances over the 0.02 bar.
+pub const SAMPLED_GROWTH_MIN_TURNS: f64 = 20.0;
 
 /// Below this many training sessions, only a strongly regularised logistic model is fitted.
 pub const SMALL_SET_SESSIONS: usize = 60;
@@ -52,6 +60,12 @@ pub struct TrainOptions {
     pub cross_fit: bool,
     /// Measure held-out log loss against the number of training sessions.
     pub learning_curve: bool,
+    /// When sessions are long (on average at least [`SAMPLED_GROWTH_MIN_TURNS`] turns), tune
+    /// every candidate and grow boosted trees on one turn in two (a seeded hash of session
+    /// and turn), then set the trees' leaf values on every turn: neighbouring turns of a long
+    /// session are near-copies, so the sample shapes the trees about as well at half the cost.
+    /// Validation, test and traces always use every turn.
+    pub sampled_growth: bool,
     /// Most feature values (turn rows × feature columns) used to fit one model; beyond it
     /// turns are sampled deterministically. Memory follows values, not rows: a game with few
     /// event labels has narrow rows and can use more of them.
@@ -69,6 +83,7 @@ impl Default for TrainOptions {
             boosted: BoostedParams::default(),
             cross_fit: true,
             learning_curve: true,
+            sampled_growth: true,
             // About 0.8 GB of table values; with binning, tuning folds and traces a
             // 50,000-session board-game set stays under 4 GB.
             max_values: 200_000_000,
@@ -359,7 +374,17 @@ impl Ctx<'_> {
     fn data(&mut self, sessions: &[(usize, usize)], fitting: bool) -> Result<Data, TrainError> {
         // Validation and learning-curve rows are sampled like fitting rows when a set is too
         // large to use every turn; traces are always scored on every turn (score_sessions).
-        let (table, x) = self.table(sessions, self.sample, fitting)?;
+        self.data_sampled(sessions, fitting, self.sample)
+    }
+
+    /// [`Self::data`] with another turn sample.
+    fn data_sampled(
+        &mut self,
+        sessions: &[(usize, usize)],
+        fitting: bool,
+        sample: TurnSample,
+    ) -> Result<Data, TrainError> {
+        let (table, x) = self.table(sessions, sample, fitting)?;
         let (won, draw) = labels(self.sets, &table);
         Ok(Data {
             rows: table.rows,
@@ -370,41 +395,97 @@ impl Ctx<'_> {
         })
     }
 
-    /// Fit the win model (and a draw model when the sessions have draws) on the sessions;
-    /// returns the models and the number of turn rows fitted.
+    /// Fit the win model (and a draw model when the sessions have draws) on the sessions as
+    /// tuning fitted them: boosted trees grown on `grow` turns when given (each tree's leaf
+    /// values set on every turn), otherwise on every turn; returns the models and the number
+    /// of turn rows whose labels they were fitted to.
     fn fit(
         &mut self,
         chosen: &Chosen,
         sessions: &[(usize, usize)],
+        grow: Option<TurnSample>,
         stage: &str,
         with_draw: bool,
     ) -> Result<(Fitted, Option<Fitted>, usize), TrainError> {
         let data = self.data(sessions, true)?;
+        let grown = match (chosen, grow) {
+            (Chosen::Boosted(_), Some(sample)) => {
+                let grow = self.data_sampled(sessions, true, sample)?;
+                let like = grow.binned(&self.bins)?;
+                let _ = data.binned.set(BinnedData::new_like(&data.x, like));
+                Some(grow)
+            }
+            _ => None,
+        };
         let t0 = Instant::now();
-        let (win, draw) = self.fit_data(chosen, &data, stage, with_draw)?;
+        let (win, draw) = match &grown {
+            Some(grow) => self.fit_data(chosen, grow, stage, with_draw, None, Some(&data))?,
+            None => self.fit_data(chosen, &data, stage, with_draw, None, None)?,
+        };
         self.timings.fit += t0.elapsed().as_secs_f64();
         Ok((win, draw, data.rows.len()))
     }
 
+    /// Boosted win (and draw) models with their leaf values set again on every row of `data`
+    /// (binned with the edges the trees were grown on); logistic models are returned as they
+    /// are. A draw model is dropped when `data` has no draws.
+    fn refit(
+        &self,
+        win: Fitted,
+        draw: Option<Fitted>,
+        data: &Data,
+    ) -> Result<(Fitted, Option<Fitted>), TrainError> {
+        let again = |m: Fitted, labels: &[f32]| -> Result<Fitted, TrainError> {
+            Ok(match m {
+                Fitted::Boosted(b) => {
+                    // Every candidate shares the run's learning rate and leaf penalty.
+                    let binned = data.binned(&self.bins)?;
+                    Fitted::Boosted(b.refit(binned, None, labels, None, &self.bins, self.cancel)?)
+                }
+                other => other,
+            })
+        };
+        let win = again(win, &data.won)?;
+        let draw = match draw {
+            Some(d) if data.has_draws() => Some(again(d, &data.draw)?),
+            _ => None,
+        };
+        Ok((win, draw))
+    }
+
     /// Fit the win model (and a draw model when asked and the rows have draws) on prepared
-    /// data, with the rounds chosen by tuning.
+    /// data, with the rounds chosen by tuning; a logistic win model starts from `warm` (a fit
+    /// of the same penalty on some of the rows) when given; boosted trees take their leaf
+    /// values from every row of `values` when given (binned with `data`'s edges).
     fn fit_data(
         &self,
         chosen: &Chosen,
         data: &Data,
         stage: &str,
         with_draw: bool,
+        warm: Option<&Fitted>,
+        values: Option<&Data>,
     ) -> Result<(Fitted, Option<Fitted>), TrainError> {
         let progress = StageProgress {
             inner: self.progress,
             stage,
         };
+        let value_rows = |draw: bool| -> Option<ValueRows> {
+            let v = values?;
+            Some(ValueRows {
+                data: v.binned.get()?,
+                rows: None,
+                y: if draw { &v.draw } else { &v.won },
+                weights: None,
+            })
+        };
         let win = fit_one(
             chosen,
             data,
             &data.won,
+            value_rows(false),
             None,
-            None,
+            warm,
             None,
             &self.bins,
             &progress,
@@ -412,11 +493,13 @@ impl Ctx<'_> {
         )?;
         // The draw model is of the same kind as the win model: draws can depend on the
         // position as non-linearly as wins do.
-        let draw_model = if with_draw && data.has_draws() {
+        let has_draws = values.map_or(data.has_draws(), Data::has_draws);
+        let draw_model = if with_draw && has_draws {
             Some(fit_one(
                 chosen,
                 data,
                 &data.draw,
+                value_rows(true),
                 None,
                 None,
                 self.draw_rounds,
@@ -453,13 +536,15 @@ const TUNING_TOL: f64 = 1e-5;
 const LEARNING_CURVE_SHARES: [f64; 2] = [0.125, 0.25];
 
 /// One model of the chosen kind on `data` with `labels`: logistic started from `warm` (an
-/// earlier logistic fit on the same data), or boosted trees on the data's shared bins with
-/// early stopping on `valid` and `max_rounds` in place of the chosen rounds when given.
+/// earlier logistic fit on the same data), or boosted trees on the data's shared bins (leaf
+/// values from `values` when given) with early stopping on `valid` and `max_rounds` in place
+/// of the chosen rounds when given.
 #[allow(clippy::too_many_arguments)]
 fn fit_one(
     chosen: &Chosen,
     data: &Data,
     labels: &[f32],
+    values: Option<ValueRows>,
     valid: Option<(&Matrix, &[f32])>,
     warm: Option<&Fitted>,
     max_rounds: Option<usize>,
@@ -482,7 +567,9 @@ fn fit_one(
                 max_rounds: max_rounds.unwrap_or(p.max_rounds),
                 ..p.clone()
             };
-            Fitted::Boosted(params.fit_binned(binned, labels, None, valid, progress, cancel)?)
+            Fitted::Boosted(
+                params.fit_binned_valued(binned, labels, None, values, valid, progress, cancel)?,
+            )
         }
     })
 }
@@ -627,6 +714,20 @@ pub fn train(
     progress.report("tuning", 0.0);
     let stage_start = Instant::now();
     let small = train_sessions.len() < SMALL_SET_SESSIONS;
+    // Long sessions: tuning fits and tree growth on one turn in two (see `sampled_growth`).
+    let mean_turns = train_sessions
+        .iter()
+        .map(|&(si, k)| sets[si].sessions[k].turn_count() as f64)
+        .sum::<f64>()
+        / train_sessions.len().max(1) as f64;
+    let grow_sample = if options.sampled_growth && !small && mean_turns >= SAMPLED_GROWTH_MIN_TURNS
+    {
+        ctx.sample.thinned(2, options.seed)
+    } else {
+        ctx.sample
+    };
+    // The turns boosted trees are grown on when they are not every fitted turn.
+    let grow = (grow_sample != ctx.sample).then_some(grow_sample);
     let mut tuning = Vec::new();
     let fold_of = |i: usize| match split.roles[i] {
         Role::Fold(f) => f as usize,
@@ -703,8 +804,40 @@ pub fn train(
         if fold_data.is_empty() {
             first_fold_sessions = fit_on.len();
         }
-        fold_data.push((ctx.data(&fit_on, true)?, ctx.data(&valid, false)?));
+        fold_data.push((
+            ctx.data_sampled(&fit_on, true, grow_sample)?,
+            ctx.data(&valid, false)?,
+        ));
     }
+    // With growth on sampled turns, boosted candidates take their leaf values from every turn
+    // of the fold's fitting part: those rows are part of the final rows, built now and binned
+    // with the edges of the growth rows.
+    let mut early_final: Option<Data> = None;
+    let mut fit_part_rows: Vec<u32> = Vec::new();
+    if let (Some(_), true, Some((grow_rows, _))) = (grow, wants_boosted, fold_data.first()) {
+        let all = ctx.data(&train_sessions, true)?;
+        let like = grow_rows.binned(&ctx.bins)?;
+        let _ = all.binned.set(BinnedData::new_like(&all.x, like));
+        let in_fold: std::collections::HashSet<(usize, usize)> =
+            fold_sessions(cv_folds[0], true).into_iter().collect();
+        fit_part_rows = (0..all.rows.len() as u32)
+            .filter(|&i| {
+                let k = &all.rows[i as usize];
+                !in_fold.contains(&(k.set as usize, k.session as usize))
+            })
+            .collect();
+        early_final = Some(all);
+    }
+    // The leaf-value rows of the first fold's boosted fits, for win or draw labels.
+    let fold_values = |draw: bool| -> Option<ValueRows> {
+        let all = early_final.as_ref()?;
+        Some(ValueRows {
+            data: all.binned.get()?,
+            rows: Some(&fit_part_rows),
+            y: if draw { &all.draw } else { &all.won },
+            weights: None,
+        })
+    };
     // The logistic path and the boosted candidates run side by side (each fit is
     // deterministic, and the results are merged in candidate order, so the choice is the
     // same at any thread count); the path itself is sequential, each penalty warm-started.
@@ -727,6 +860,7 @@ pub fn train(
                 cand,
                 fit_data,
                 &fit_data.won,
+                if fi == 0 { fold_values(false) } else { None },
                 Some((&valid_data.x, &valid_data.won)),
                 warm.get(fi).and_then(Option::as_ref),
                 None,
@@ -789,7 +923,7 @@ pub fn train(
             }
             Ok((results, 0))
         },
-        || -> Result<(Vec<CandidateResult>, Option<usize>), TrainError> {
+        || -> Result<(Vec<CandidateResult>, Option<crate::models::boosted::Boosted>), TrainError> {
             let mut results: Vec<CandidateResult> = Vec::new();
             for cand in &boosted {
                 results.extend(run_candidate(cand, &mut [])?);
@@ -820,6 +954,7 @@ pub fn train(
                         &draw_candidate,
                         fit_data,
                         &fit_data.draw,
+                        fold_values(true),
                         Some((&valid_data.x, &valid_data.draw)),
                         None,
                         Some(options.boosted.max_rounds),
@@ -827,7 +962,7 @@ pub fn train(
                         &tuning_progress,
                         cancel,
                     )? {
-                        Fitted::Boosted(m) => Some(m.best_rounds.max(1)),
+                        Fitted::Boosted(m) => Some(m),
                         Fitted::Logistic(_) => None,
                     }
                 }
@@ -838,7 +973,8 @@ pub fn train(
     );
     ctx.timings.fit += t0.elapsed().as_secs_f64();
     let (logistic_results, path_skipped) = logistic_results?;
-    let (boosted_results, boosted_draw_rounds) = boosted_results?;
+    let (boosted_results, boosted_draw_model) = boosted_results?;
+    let boosted_draw_rounds = boosted_draw_model.as_ref().map(|m| m.best_rounds.max(1));
     for r in logistic_results.into_iter().chain(boosted_results) {
         tuning.push(TuningRecord {
             candidate: r.tuned.describe(),
@@ -862,15 +998,19 @@ pub fn train(
     if matches!(chosen, Chosen::Boosted(_)) {
         ctx.draw_rounds = boosted_draw_rounds;
     }
-    // With one validation fold, the fold's fitting rows become the final fit's rows (the
-    // fold's own sessions are appended below, binned with the same edges); other tuning tables
-    // are freed before the final fit.
-    let reused = if cv_folds.len() == 1 && fold_data.len() == 1 {
-        fold_data.pop().map(|(fit, _valid)| fit)
+    // With one validation fold, its tables are kept: the validation rows for the learning
+    // curve's early stopping, the fitting rows for the final rows (below). Other tuning
+    // tables are freed before the final fit.
+    let tuned_fold = if cv_folds.len() == 1 && fold_data.len() == 1 {
+        fold_data.pop()
     } else {
         None
     };
     drop(fold_data);
+    let tuning_edges: Option<Vec<crate::models::boosted::bins::BinEdges>> = tuned_fold
+        .as_ref()
+        .and_then(|(fit, _)| fit.binned.get())
+        .map(|b| b.edges.clone());
     ctx.timings.stage("tuning", stage_start);
     for t in &mut tuning {
         t.chosen = t.candidate == chosen.describe() && t.valid_log_loss == best_loss;
@@ -894,12 +1034,29 @@ pub fn train(
             "; draw model: {r} rounds, by early stopping on the same fold"
         ));
     }
+    if grow.is_some() {
+        choice_text.push_str(&format!(
+            "; sessions average {mean_turns:.0} turns, so tuning fitted one turn in two{}",
+            if matches!(chosen, Chosen::Boosted(_)) {
+                " and the trees' leaf values were then set on every turn of every training session"
+            } else {
+                ""
+            }
+        ));
+    } else if matches!(chosen, Chosen::Boosted(_)) && tuned_fold.is_some() {
+        choice_text
+            .push_str("; the tuned trees' leaf values were then set on every training session");
+    }
 
-    // The learning curve's plan: sessions in a seeded order, the sizes fitted besides the
-    // tuning model (fitted on the first fold's training part) and the final model, which are
-    // two points for free.
+    // The learning curve's plan: sessions of the validation fold's fitting part in a seeded
+    // order (every training session without a single fold); the sizes fitted besides the
+    // tuning model (on that fitting part) and the final model, which are two points for free.
     let want_curve = options.learning_curve && test_sessions.len() >= 5;
-    let mut ordered: Vec<(u64, (usize, usize))> = train_sessions
+    let fit_part: Vec<(usize, usize)> = match &tuned_fold {
+        Some(_) => fold_sessions(cv_folds[0], false),
+        None => train_sessions.clone(),
+    };
+    let mut ordered: Vec<(u64, (usize, usize))> = fit_part
         .iter()
         .map(|&(si, k)| {
             let id = &sets[si].sessions[k].id;
@@ -910,65 +1067,190 @@ pub fn train(
         })
         .collect();
     ordered.sort_unstable();
-    let n = ordered.len();
-    let tuning_point = tuning_model
-        .as_ref()
-        .filter(|_| want_curve && first_fold_sessions > 0 && first_fold_sessions < n);
+    let n = train_sessions.len();
+    let with_tuning_point =
+        tuning_model.is_some() && want_curve && first_fold_sessions > 0 && first_fold_sessions < n;
     // Subsets smaller than the tuning model's share, each at least 5 sessions.
-    let below = tuning_point.map_or(n, |_| first_fold_sessions);
+    let below = if with_tuning_point {
+        first_fold_sessions
+    } else {
+        ordered.len() + 1
+    };
     let mut smaller: Vec<usize> = LEARNING_CURVE_SHARES
         .iter()
         .map(|f| ((n as f64 * f).round() as usize).max(5))
-        .filter(|&m| want_curve && m < below)
+        .filter(|&m| want_curve && m < below && m <= ordered.len())
         .collect();
     smaller.dedup();
     let subset_of =
         |m: usize| -> Vec<(usize, usize)> { ordered[..m].iter().map(|x| x.1).collect() };
 
-    // The final model, on every training session. The small learning-curve fits use the
-    // machine's cores poorly one at a time; when their tables are small, they run beside the
-    // final fit (each fit is deterministic, so nothing depends on the thread count). Large
-    // tables are fitted one at a time, after it, to bound memory.
+    // The final model, on every training session. With one validation fold, boosted trees are
+    // the tuned ones with their leaf values set on every training row (the final rows are
+    // binned with the fold's edges); when the fold's fitting rows are every turn, they are the
+    // start of the final rows (the fold's own sessions are appended, binned alike), so the
+    // table is built once. The learning curve's small fits use the machine's cores poorly one
+    // at a time; when their tables are small, they run beside the final fit (each fit is
+    // deterministic, so nothing depends on the thread count). Large tables are fitted one at
+    // a time, after it, to bound memory.
     progress.report("final fit", 0.0);
     let stage_start = Instant::now();
-    let final_data = match reused {
-        Some(mut fit) => {
+    let (final_data, tuning_fit, valid_data) = match tuned_fold {
+        Some((mut fit, valid)) if grow.is_none() => {
             fit.append(ctx.data(&fold_sessions(cv_folds[0], true), true)?)?;
-            fit
+            (fit, None, Some(valid))
         }
-        None => ctx.data(&train_sessions, true)?,
+        Some((fit, valid)) => {
+            let all = match early_final {
+                Some(all) => all,
+                None => ctx.data(&train_sessions, true)?,
+            };
+            if let (Some(b), None) = (fit.binned.get(), all.binned.get()) {
+                let _ = all.binned.set(BinnedData::new_like(&all.x, b));
+            }
+            (all, Some(fit), Some(valid))
+        }
+        None => (ctx.data(&train_sessions, true)?, None, None),
     };
     let trained_rows = final_data.rows.len();
+    // The tuned trees can take new leaf values only on rows binned with their edges.
+    let refit_tuned = match (&chosen, tuning_model.as_ref(), &tuning_edges) {
+        (Chosen::Boosted(_), Some(Fitted::Boosted(_)), Some(edges)) => {
+            final_data.binned(&ctx.bins)?.edges == *edges
+        }
+        _ => false,
+    };
+    // The tuned boosted candidate with rounds left to early stopping, for the curve's fits.
+    let curve_candidate = match (&chosen, &valid_data) {
+        (Chosen::Boosted(p), Some(_)) => Chosen::Boosted(BoostedParams {
+            max_rounds: options.boosted.max_rounds,
+            ..p.clone()
+        }),
+        _ => chosen.clone(),
+    };
+    // One learning-curve fit on the first `m` sessions of `ordered`, fitted as tuning fitted
+    // its candidates: logistic on every turn; boosted trees with early stopping on the
+    // validation rows, grown on the fold's growth rows (one turn in two when sampled, each
+    // tree's leaf values then set on every turn of the subset).
+    let curve_fit = |m: usize| -> Result<Fitted, TrainError> {
+        let quiet = crate::progress::NoProgress;
+        let sessions = subset_of(m);
+        let valid = valid_data.as_ref().map(|v| (&v.x, &v.won[..]));
+        match (&curve_candidate, valid, &tuning_fit) {
+            (Chosen::Boosted(_), Some(valid), Some(grow_rows)) => {
+                let grown = grow_rows.sessions_subset(&sessions);
+                let wanted: std::collections::HashSet<(usize, usize)> =
+                    sessions.iter().copied().collect();
+                let rows: Vec<u32> = (0..final_data.rows.len() as u32)
+                    .filter(|&i| {
+                        let k = &final_data.rows[i as usize];
+                        wanted.contains(&(k.set as usize, k.session as usize))
+                    })
+                    .collect();
+                let values = ValueRows {
+                    data: final_data.binned(&ctx.bins)?,
+                    rows: Some(&rows),
+                    y: &final_data.won,
+                    weights: None,
+                };
+                fit_one(
+                    &curve_candidate,
+                    &grown,
+                    &grown.won,
+                    Some(values),
+                    Some(valid),
+                    None,
+                    None,
+                    &ctx.bins,
+                    &quiet,
+                    cancel,
+                )
+            }
+            (Chosen::Boosted(_), Some(valid), None) => {
+                let all = final_data.sessions_subset(&sessions);
+                fit_one(
+                    &curve_candidate,
+                    &all,
+                    &all.won,
+                    None,
+                    Some(valid),
+                    None,
+                    None,
+                    &ctx.bins,
+                    &quiet,
+                    cancel,
+                )
+            }
+            _ => {
+                let all = final_data.sessions_subset(&sessions);
+                fit_one(
+                    &chosen, &all, &all.won, None, None, None, None, &ctx.bins, &quiet, cancel,
+                )
+            }
+        }
+    };
     let sub_rows: usize = smaller.iter().map(|&m| trained_rows * m / n.max(1)).sum();
     let curve_beside = sub_rows <= PARALLEL_CURVE_ROWS;
-    let mut curve_data = Vec::new();
-    if curve_beside {
-        if matches!(chosen, Chosen::Boosted(_)) {
-            // Bin once, so the subsets take their bins from the final rows.
-            final_data.binned(&ctx.bins)?;
-        }
-        for &m in &smaller {
-            curve_data.push(final_data.sessions_subset(&subset_of(m)));
-        }
-    }
     let t0 = Instant::now();
     let (final_fit, curve_fits) = rayon::join(
-        || ctx.fit_data(&chosen, &final_data, "final fit", true),
         || {
-            curve_data
-                .par_iter()
-                .map(|d| {
-                    let quiet = crate::progress::NoProgress;
-                    fit_one(
-                        &chosen, d, &d.won, None, None, None, &ctx.bins, &quiet, cancel,
-                    )
-                })
-                .collect::<Vec<Result<Fitted, TrainError>>>()
+            if refit_tuned {
+                let win = tuning_model.clone().expect("checked above");
+                let draw = boosted_draw_model.clone().map(Fitted::Boosted);
+                let (win, refitted_draw) = ctx.refit(win, draw, &final_data)?;
+                // A draw model tuning could not stop early (no draws in one of its parts)
+                // is grown on the final rows with the chosen rounds.
+                let draw = match refitted_draw {
+                    Some(d) => Some(d),
+                    None if final_data.has_draws() => Some(fit_one(
+                        &chosen,
+                        &final_data,
+                        &final_data.draw,
+                        None,
+                        None,
+                        None,
+                        ctx.draw_rounds,
+                        &ctx.bins,
+                        &crate::progress::NoProgress,
+                        cancel,
+                    )?),
+                    None => None,
+                };
+                Ok((win, draw))
+            } else {
+                // A logistic final fit starts from the tuning fold's solution.
+                ctx.fit_data(
+                    &chosen,
+                    &final_data,
+                    "final fit",
+                    true,
+                    tuning_model.as_ref(),
+                    None,
+                )
+            }
+        },
+        || -> Vec<Result<Fitted, TrainError>> {
+            if curve_beside {
+                smaller.par_iter().map(|&m| curve_fit(m)).collect()
+            } else {
+                Vec::new()
+            }
         },
     );
+    let mut curve_fits = curve_fits;
+
+    if !curve_beside {
+        for (i, &m) in smaller.iter().enumerate() {
+            progress.report("learning curve", i as f64 / (smaller.len() + 1) as f64);
+            curve_fits.push(curve_fit(m));
+        }
+    }
+    // The tuning model's point (its leaf values already come from every turn of its sessions).
+    let tuning_point = tuning_model.as_ref().filter(|_| with_tuning_point);
     ctx.timings.fit += t0.elapsed().as_secs_f64();
     drop(final_data);
-    drop(curve_data);
+    drop(tuning_fit);
+    drop(valid_data);
     let (win, draw) = final_fit?;
     let mut model = WinModel {
         spec: ctx.spec.clone(),
@@ -1010,7 +1292,7 @@ pub fn train(
             if fit_on.is_empty() || predict.is_empty() {
                 continue;
             }
-            let (win, draw, _) = ctx.fit(&chosen, &fit_on, "cross-fitting", true)?;
+            let (win, draw, _) = ctx.fit(&chosen, &fit_on, grow, "cross-fitting", true)?;
             let fold_model = WinModel {
                 spec: ctx.spec.clone(),
                 win,
@@ -1057,20 +1339,11 @@ pub fn train(
     if want_curve {
         let stage_start = Instant::now();
         let test_data = ctx.data(&test_sessions, false)?;
-        let mut losses: Vec<f64> = Vec::with_capacity(smaller.len());
-        if curve_beside {
-            for f in curve_fits {
-                losses.push(ctx.loss_on(&f?, &test_data));
-            }
-        } else {
-            for (i, &m) in smaller.iter().enumerate() {
-                progress.report("learning curve", i as f64 / (smaller.len() + 1) as f64);
-                let (win, _, _) = ctx.fit(&chosen, &subset_of(m), "learning curve", false)?;
-                losses.push(ctx.loss_on(&win, &test_data));
-            }
-        }
-        for (&sessions, log_loss) in smaller.iter().zip(losses) {
-            learning_curve.push(LearningPoint { sessions, log_loss });
+        for (&sessions, fitted) in smaller.iter().zip(curve_fits) {
+            learning_curve.push(LearningPoint {
+                sessions,
+                log_loss: ctx.loss_on(&fitted?, &test_data),
+            });
         }
         if let Some(m) = tuning_point {
             learning_curve.push(LearningPoint {

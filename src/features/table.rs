@@ -239,6 +239,22 @@ pub enum TurnSample {
     },
 }
 
+impl TurnSample {
+    /// About one in `by` of this sample's turns: `All` becomes one turn in `by` (hashed with
+    /// `seed`), one in `every` becomes one in `every × by` with the same seed, whose turns are
+    /// then a subset of this sample's (a hash divisible by `every × by` is divisible by
+    /// `every`).
+    pub fn thinned(self, by: u32, seed: u64) -> TurnSample {
+        match self {
+            TurnSample::All => TurnSample::OneIn { every: by, seed },
+            TurnSample::OneIn { every, seed } => TurnSample::OneIn {
+                every: every.saturating_mul(by),
+                seed,
+            },
+        }
+    }
+}
+
 /// A 64-bit mix of a seed, a text and a number (SplitMix64 finaliser over FNV-1a).
 pub fn stable_hash(seed: u64, text: &str, n: u64) -> u64 {
     let mut h: u64 = 0xcbf2_9ce4_8422_2325 ^ seed;

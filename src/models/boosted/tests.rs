@@ -540,3 +540,73 @@ fn trees_walked_on_prediction_bins_land_where_raw_values_do() {
         }
     }
 }
+
+#[test]
+fn leaf_values_from_the_growth_rows_themselves_change_nothing() {
+    // Valued on the very rows it grows on, each tree's Newton values are the ones growth
+    // computed from its histograms (the same sums, from f64 gradients rather than the f32
+    // ones growth stores), so the model and its early stopping must match the plain fit.
+    // f32 gradients carry about 6e-8 relative error each; a leaf whose gradients nearly
+    // cancel can lose a few digits more relative to its own small value, so the bound is
+    // relative to at least 0.1 (leaf values here are learning rate 0.1 × Newton steps).
+    let (x, y) = esl_10_2(4000, 31);
+    let (vx, vy) = esl_10_2(1000, 32);
+    let params = BoostedParams {
+        max_rounds: 200,
+        eval_every: 5,
+        ..BoostedParams::default()
+    };
+    let data = params.bin(&x).unwrap();
+    let valid = Some((&vx, &vy[..]));
+    let plain = params
+        .fit_binned(&data, &y, None, valid, &NoProgress, &Cancel::new())
+        .unwrap();
+    let values = ValueRows {
+        data: &data,
+        rows: None,
+        y: &y,
+        weights: None,
+    };
+    let valued = params
+        .fit_binned_valued(
+            &data,
+            &y,
+            None,
+            Some(values),
+            valid,
+            &NoProgress,
+            &Cancel::new(),
+        )
+        .unwrap();
+    assert_eq!(plain.best_rounds, valued.best_rounds);
+    for (a, b) in plain.trees.iter().zip(&valued.trees) {
+        // The same splits; gains are sums of the same slightly different gradients.
+        assert_eq!(a.nodes.len(), b.nodes.len());
+        for (m, k) in a.nodes.iter().zip(&b.nodes) {
+            let shape = |n: &tree::Node| (n.feature, n.threshold_bin, n.threshold, n.left, n.right);
+            assert_eq!(shape(m), shape(k));
+            assert!((m.gain - k.gain).abs() < 1e-6 * m.gain.abs().max(1.0));
+        }
+        for (u, v) in a.leaf_values.iter().zip(&b.leaf_values) {
+            assert!((u - v).abs() < 1e-6 * u.abs().max(0.1), "{u} vs {v}");
+        }
+    }
+    // Valued on other rows of another size, the margin starts from their labels.
+    let half: Vec<u32> = (0..2000).collect();
+    let other = params
+        .fit_binned_valued(
+            &data,
+            &y,
+            None,
+            Some(ValueRows {
+                rows: Some(&half),
+                ..values
+            }),
+            None,
+            &NoProgress,
+            &Cancel::new(),
+        )
+        .unwrap();
+    let mean = y[..2000].iter().map(|&v| f64::from(v)).sum::<f64>() / 2000.0;
+    assert!((other.base_score - (mean / (1.0 - mean)).ln()).abs() < 1e-9);
+}
