@@ -14,7 +14,7 @@ use super::super::weighted_rows::check_labels_and_weights;
 use super::bins::{BinnedData, MAX_FEATURES_PER_GROUP, find_edges};
 use super::params::BoostedParams;
 use super::partition::OUT_OF_BAG;
-use super::tree::{GrowInput, Tree, TreeLearner};
+use super::tree::{GrowInput, LeafWalk, Tree, TreeLearner};
 use crate::progress::{Cancel, Progress};
 
 /// Rows per parallel work item for loss sums and score updates; fixed so sums are
@@ -117,20 +117,25 @@ fn newton_leaf_values(
         .par_chunks_mut(CHUNK_ROWS)
         .zip(scores.par_chunks(CHUNK_ROWS))
         .zip(rows.par_chunks(CHUNK_ROWS))
-        .map(|((chunk_leaves, chunk_scores), chunk_rows)| {
-            let mut sums = vec![(0.0, 0.0); leaves];
-            for ((l, &z), &r) in chunk_leaves.iter_mut().zip(chunk_scores).zip(chunk_rows) {
-                let i = r as usize;
-                let leaf = tree.leaf_binned(data, i);
-                *l = leaf as u32;
-                let w = weight(i);
-                let prob = sigmoid(z);
-                let e = &mut sums[leaf];
-                e.0 += w * (prob - f64::from(y[i]));
-                e.1 += w * prob * (1.0 - prob);
-            }
-            sums
-        })
+        .map_init(
+            LeafWalk::default,
+            |walk, ((chunk_leaves, chunk_scores), chunk_rows)| {
+                let mut sums = vec![(0.0, 0.0); leaves];
+                chunk_leaves.copy_from_slice(
+                    walk.leaves(tree, data, chunk_rows.len(), |k| chunk_rows[k] as usize),
+                );
+                for ((&leaf, &z), &r) in chunk_leaves.iter().zip(chunk_scores).zip(chunk_rows) {
+                    let i = r as usize;
+                    let leaf = leaf as usize;
+                    let w = weight(i);
+                    let prob = sigmoid(z);
+                    let e = &mut sums[leaf];
+                    e.0 += w * (prob - f64::from(y[i]));
+                    e.1 += w * prob * (1.0 - prob);
+                }
+                sums
+            },
+        )
         .collect();
     let mut sums = vec![(0.0f64, 0.0f64); leaves];
     for part in &partials {
@@ -394,13 +399,15 @@ impl BoostedParams {
             }
             Self::update_scores(&mut scores, &tree, &learner, data);
             if let (Some(vs), Some(vb)) = (valid_scores.as_mut(), valid_bins.as_ref()) {
-                vs.par_chunks_mut(CHUNK_ROWS)
-                    .enumerate()
-                    .for_each(|(c, s)| {
-                        for (k, v) in s.iter_mut().enumerate() {
-                            *v += tree.predict_binned(vb, c * CHUNK_ROWS + k);
+                vs.par_chunks_mut(CHUNK_ROWS).enumerate().for_each_init(
+                    LeafWalk::default,
+                    |walk, (c, s)| {
+                        let leaves = walk.leaves(&tree, vb, s.len(), |k| c * CHUNK_ROWS + k);
+                        for (v, &leaf) in s.iter_mut().zip(leaves) {
+                            *v += tree.leaf_values[leaf as usize];
                         }
-                    });
+                    },
+                );
             }
             let no_split = tree.nodes.is_empty();
             trees.push(tree);

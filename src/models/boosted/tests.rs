@@ -542,6 +542,48 @@ fn trees_walked_on_prediction_bins_land_where_raw_values_do() {
 }
 
 #[test]
+fn leaves_found_block_by_block_are_the_leaves_of_the_row_by_row_walk() {
+    // LeafWalk splits a block's positions node by node; each row must end in the leaf that
+    // walking it alone from the root reaches, for every row mapping the engine uses (all
+    // rows in order, a listed subset, and a block's offset), on trees deep and shallow.
+    let (x, y) = esl_10_2(5000, 41);
+    let params = BoostedParams {
+        max_rounds: 20,
+        max_leaves: 63,
+        min_rows_per_leaf: 5,
+        ..BoostedParams::default()
+    };
+    let data = params.bin(&x).unwrap();
+    let model = params
+        .fit_binned(&data, &y, None, None, &NoProgress, &Cancel::new())
+        .unwrap();
+    let listed: Vec<u32> = (0..5000).filter(|i| i % 3 != 1).collect();
+    let mut walk = tree::LeafWalk::default();
+    let single = tree::Tree {
+        nodes: Vec::new(),
+        leaf_values: vec![0.5],
+    };
+    for t in model.trees.iter().chain([&single]) {
+        let all = walk.leaves(t, &data, 5000, |k| k).to_vec();
+        for (i, &leaf) in all.iter().enumerate() {
+            assert_eq!(leaf as usize, t.leaf_binned(&data, i), "row {i}");
+        }
+        let some = walk
+            .leaves(t, &data, listed.len(), |k| listed[k] as usize)
+            .to_vec();
+        for (k, &leaf) in some.iter().enumerate() {
+            assert_eq!(leaf as usize, t.leaf_binned(&data, listed[k] as usize));
+        }
+        let block = walk.leaves(t, &data, 700, |k| 4096 + k).to_vec();
+        for (k, &leaf) in block.iter().enumerate() {
+            assert_eq!(leaf as usize, t.leaf_binned(&data, 4096 + k));
+        }
+    }
+    assert!(model.trees.iter().any(|t| t.n_leaves() > 40));
+    assert!(walk.leaves(&model.trees[0], &data, 0, |k| k).is_empty());
+}
+
+#[test]
 fn leaf_values_from_the_growth_rows_themselves_change_nothing() {
     // Valued on the very rows it grows on, each tree's Newton values are the ones growth
     // computed from its histograms (the same sums, from f64 gradients rather than the f32

@@ -109,6 +109,73 @@ impl Tree {
     }
 }
 
+/// Buffers for finding the leaves of many rows at once ([`LeafWalk::leaves`]), reused from
+/// one call to the next.
+#[derive(Debug, Default)]
+pub struct LeafWalk {
+    /// Positions of the block, each node's rows a contiguous, increasing segment.
+    positions: Vec<u32>,
+    /// The right-going positions of the node being split.
+    right: Vec<u32>,
+    /// Nodes (or leaves) still to visit, with their segment.
+    stack: Vec<(i32, usize, usize)>,
+    /// The leaf of each position.
+    leaves: Vec<u32>,
+}
+
+impl LeafWalk {
+    /// The leaf of each of `m` rows: entry `k` for data row `row_of(k)`. The block's
+    /// positions are split node by node, stably and without a branch on the data, so each
+    /// node reads its column in the order of the rows (increasing when `row_of` is). The same
+    /// leaves as [`Tree::leaf_binned`], several times faster on blocks of a few thousand rows:
+    /// a row-by-row walk mispredicts about every other branch.
+    pub fn leaves(
+        &mut self,
+        tree: &Tree,
+        data: &BinnedData,
+        m: usize,
+        row_of: impl Fn(usize) -> usize,
+    ) -> &[u32] {
+        self.leaves.clear();
+        self.leaves.resize(m, 0);
+        if tree.nodes.is_empty() || m == 0 {
+            return &self.leaves;
+        }
+        self.positions.clear();
+        self.positions.extend(0..m as u32);
+        self.right.resize(m, 0);
+        self.stack.clear();
+        self.stack.push((0, 0, m));
+        while let Some((at, begin, end)) = self.stack.pop() {
+            if at < 0 {
+                let leaf = !at as u32;
+                for &k in &self.positions[begin..end] {
+                    self.leaves[k as usize] = leaf;
+                }
+                continue;
+            }
+            let node = &tree.nodes[at as usize];
+            let column = data.column(node.feature as usize);
+            let threshold = node.threshold_bin;
+            // Every position is written to both sides; only the side it belongs to advances.
+            // Writing left at `n_left ≤ read` never overwrites a position not yet read.
+            let (mut n_left, mut n_right) = (begin, 0);
+            for read in begin..end {
+                let k = self.positions[read];
+                let goes_left = usize::from(column[row_of(k as usize)] <= threshold);
+                self.positions[n_left] = k;
+                self.right[n_right] = k;
+                n_left += goes_left;
+                n_right += 1 - goes_left;
+            }
+            self.positions[n_left..end].copy_from_slice(&self.right[..n_right]);
+            self.stack.push((node.right, n_left, end));
+            self.stack.push((node.left, begin, n_left));
+        }
+        &self.leaves
+    }
+}
+
 /// What one tree is grown from.
 pub struct GrowInput<'a> {
     /// The binned training data.
