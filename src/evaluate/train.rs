@@ -351,25 +351,6 @@ fn row_log_loss(chances: &[f64], won: &[f32]) -> f64 {
 }
 
 impl Ctx<'_> {
-    fn table(
-        &mut self,
-        sessions: &[(usize, usize)],
-        sample: TurnSample,
-        fitting: bool,
-    ) -> Result<(TurnTable, Matrix), TrainError> {
-        let t0 = Instant::now();
-        let mut table = if fitting {
-            build_training_table(&self.spec, self.sets, sessions, sample, self.cancel)?
-        } else {
-            build_table(&self.spec, self.sets, sessions, sample, self.cancel)?
-        };
-        // Move the values into the matrix: a second copy of a big table would double the memory.
-        let values = std::mem::take(&mut table.values);
-        let x = Matrix::new(table.rows.len(), table.columns.len(), values)?;
-        self.timings.features += t0.elapsed().as_secs_f64();
-        Ok((table, x))
-    }
-
     /// Rows, matrix and labels of some sessions.
     fn data(&mut self, sessions: &[(usize, usize)], fitting: bool) -> Result<Data, TrainError> {
         // Validation and learning-curve rows are sampled like fitting rows when a set is too
@@ -384,7 +365,27 @@ impl Ctx<'_> {
         fitting: bool,
         sample: TurnSample,
     ) -> Result<Data, TrainError> {
-        let (table, x) = self.table(sessions, sample, fitting)?;
+        let t0 = Instant::now();
+        let data = self.build(sessions, fitting, sample)?;
+        self.timings.features += t0.elapsed().as_secs_f64();
+        Ok(data)
+    }
+
+    /// Rows, matrix and labels of some sessions, untimed (for work beside other work).
+    fn build(
+        &self,
+        sessions: &[(usize, usize)],
+        fitting: bool,
+        sample: TurnSample,
+    ) -> Result<Data, TrainError> {
+        let mut table = if fitting {
+            build_training_table(&self.spec, self.sets, sessions, sample, self.cancel)?
+        } else {
+            build_table(&self.spec, self.sets, sessions, sample, self.cancel)?
+        };
+        // Move the values into the matrix: a second copy of a big table would double the memory.
+        let values = std::mem::take(&mut table.values);
+        let x = Matrix::new(table.rows.len(), table.columns.len(), values)?;
         let (won, draw) = labels(self.sets, &table);
         Ok(Data {
             rows: table.rows,
@@ -582,6 +583,38 @@ struct CandidateResult {
     tuned: Chosen,
     /// Its win model on the first fold.
     first_model: Option<Fitted>,
+}
+
+/// What the boosted side of tuning returns.
+struct BoostedTuning {
+    /// Each boosted candidate's result.
+    results: Vec<CandidateResult>,
+    /// The best candidate's draw model on the first fold, when the fold has draws.
+    draw_model: Option<crate::models::boosted::Boosted>,
+    /// The rows that set tuning's leaf values, when trees were grown on sampled turns.
+    values: Option<FoldValues>,
+    /// Seconds spent building and binning `values`.
+    build_seconds: f64,
+}
+
+/// Every turn of the training sessions, binned with the first fold's growth edges, and the
+/// rows of that fold's fitting part among them: the rows that set the leaf values of trees
+/// grown on the fold's sampled turns.
+struct FoldValues {
+    all: Data,
+    fit_part: Vec<u32>,
+}
+
+impl FoldValues {
+    /// The fitting part's rows with win or draw labels.
+    fn rows(&self, draw: bool) -> Option<ValueRows<'_>> {
+        Some(ValueRows {
+            data: self.all.binned.get()?,
+            rows: Some(&self.fit_part),
+            y: if draw { &self.all.draw } else { &self.all.won },
+            weights: None,
+        })
+    }
 }
 
 /// Passes engine progress on with a stage name of our own.
@@ -810,33 +843,26 @@ pub fn train(
         ));
     }
     // With growth on sampled turns, boosted candidates take their leaf values from every turn
-    // of the fold's fitting part: those rows are part of the final rows, built now and binned
-    // with the edges of the growth rows.
-    let mut early_final: Option<Data> = None;
-    let mut fit_part_rows: Vec<u32> = Vec::new();
-    if let (Some(_), true, Some((grow_rows, _))) = (grow, wants_boosted, fold_data.first()) {
-        let all = ctx.data(&train_sessions, true)?;
-        let like = grow_rows.binned(&ctx.bins)?;
+    // of the fold's fitting part: those rows are part of the final rows, built and binned with
+    // the edges of the growth rows by the boosted side of the join below, beside the
+    // logistic path.
+    let build_fold_values = grow.is_some() && wants_boosted && !fold_data.is_empty();
+    let first_fold: std::collections::HashSet<(usize, usize)> = if build_fold_values {
+        fold_sessions(cv_folds[0], true).into_iter().collect()
+    } else {
+        Default::default()
+    };
+    let fold_values = || -> Result<FoldValues, TrainError> {
+        let all = ctx.build(&train_sessions, true, ctx.sample)?;
+        let like = fold_data[0].0.binned(&ctx.bins)?;
         let _ = all.binned.set(BinnedData::new_like(&all.x, like));
-        let in_fold: std::collections::HashSet<(usize, usize)> =
-            fold_sessions(cv_folds[0], true).into_iter().collect();
-        fit_part_rows = (0..all.rows.len() as u32)
+        let fit_part = (0..all.rows.len() as u32)
             .filter(|&i| {
                 let k = &all.rows[i as usize];
-                !in_fold.contains(&(k.set as usize, k.session as usize))
+                !first_fold.contains(&(k.set as usize, k.session as usize))
             })
             .collect();
-        early_final = Some(all);
-    }
-    // The leaf-value rows of the first fold's boosted fits, for win or draw labels.
-    let fold_values = |draw: bool| -> Option<ValueRows> {
-        let all = early_final.as_ref()?;
-        Some(ValueRows {
-            data: all.binned.get()?,
-            rows: Some(&fit_part_rows),
-            y: if draw { &all.draw } else { &all.won },
-            weights: None,
-        })
+        Ok(FoldValues { all, fit_part })
     };
     // The logistic path and the boosted candidates run side by side (each fit is
     // deterministic, and the results are merged in candidate order, so the choice is the
@@ -850,7 +876,8 @@ pub fn train(
         stage: "tuning",
     };
     let run_candidate = |cand: &Chosen,
-                         warm: &mut [Option<Fitted>]|
+                         warm: &mut [Option<Fitted>],
+                         values: Option<&FoldValues>|
      -> Result<Option<CandidateResult>, TrainError> {
         let mut loss = 0.0;
         let mut rounds_sum = 0usize;
@@ -860,7 +887,7 @@ pub fn train(
                 cand,
                 fit_data,
                 &fit_data.won,
-                if fi == 0 { fold_values(false) } else { None },
+                values.filter(|_| fi == 0).and_then(|v| v.rows(false)),
                 Some((&valid_data.x, &valid_data.won)),
                 warm.get(fi).and_then(Option::as_ref),
                 None,
@@ -912,7 +939,7 @@ pub fn train(
             let mut warm: Vec<Option<Fitted>> = vec![None; fold_data.len()];
             let mut results: Vec<CandidateResult> = Vec::new();
             for (i, cand) in logistic.iter().enumerate() {
-                let Some(r) = run_candidate(cand, &mut warm)? else {
+                let Some(r) = run_candidate(cand, &mut warm, None)? else {
                     continue;
                 };
                 let rose = results.last().is_some_and(|last| r.loss > last.loss);
@@ -923,10 +950,17 @@ pub fn train(
             }
             Ok((results, 0))
         },
-        || -> Result<(Vec<CandidateResult>, Option<crate::models::boosted::Boosted>), TrainError> {
+        || -> Result<BoostedTuning, TrainError> {
+            let t0 = Instant::now();
+            let values = if build_fold_values {
+                Some(fold_values()?)
+            } else {
+                None
+            };
+            let build_seconds = t0.elapsed().as_secs_f64();
             let mut results: Vec<CandidateResult> = Vec::new();
             for cand in &boosted {
-                results.extend(run_candidate(cand, &mut [])?);
+                results.extend(run_candidate(cand, &mut [], values.as_ref())?);
             }
             // The best boosted candidate's draw rounds, by early stopping on the first fold
             // (used only when boosted trees are chosen): draws are rare, so they usually need
@@ -954,7 +988,7 @@ pub fn train(
                         &draw_candidate,
                         fit_data,
                         &fit_data.draw,
-                        fold_values(true),
+                        values.as_ref().and_then(|v| v.rows(true)),
                         Some((&valid_data.x, &valid_data.draw)),
                         None,
                         Some(options.boosted.max_rounds),
@@ -968,12 +1002,24 @@ pub fn train(
                 }
                 _ => None,
             };
-            Ok((results, draw_rounds))
+            Ok(BoostedTuning {
+                results,
+                draw_model: draw_rounds,
+                values,
+                build_seconds,
+            })
         },
     );
-    ctx.timings.fit += t0.elapsed().as_secs_f64();
     let (logistic_results, path_skipped) = logistic_results?;
-    let (boosted_results, boosted_draw_model) = boosted_results?;
+    let BoostedTuning {
+        results: boosted_results,
+        draw_model: boosted_draw_model,
+        values: fold_values,
+        build_seconds,
+    } = boosted_results?;
+    // The fold values' table was built while the logistic path was fitting.
+    ctx.timings.features += build_seconds;
+    ctx.timings.fit += t0.elapsed().as_secs_f64() - build_seconds;
     let boosted_draw_rounds = boosted_draw_model.as_ref().map(|m| m.best_rounds.max(1));
     for r in logistic_results.into_iter().chain(boosted_results) {
         tuning.push(TuningRecord {
@@ -1101,8 +1147,8 @@ pub fn train(
             (fit, None, Some(valid))
         }
         Some((fit, valid)) => {
-            let all = match early_final {
-                Some(all) => all,
+            let all = match fold_values {
+                Some(v) => v.all,
                 None => ctx.data(&train_sessions, true)?,
             };
             if let (Some(b), None) = (fit.binned.get(), all.binned.get()) {
