@@ -5,10 +5,11 @@
 use super::folds::{Role, SessionKey, Split, split_sessions};
 use crate::analysis::traces::{Trace, TraceSource};
 use crate::features::{
-    FeatureParams, FeatureSpec, TurnSample, TurnTable, build_table, build_training_table,
+    FeatureParams, FeatureSpec, TurnSample, TurnTable, build_table, build_training_table, rows_kept,
 };
-use crate::models::boosted::ValueRows;
 use crate::models::boosted::bins::BinnedData;
+use crate::models::boosted::{Boosted, Validation, ValueRows};
+use crate::models::logistic::PreparedRows;
 use crate::models::win_model::{Fitted, ModelSummary, WinModel, normalise};
 use crate::models::{BoostedParams, FitError, LogisticParams, Matrix};
 use crate::progress::{Cancel, Cancelled, Progress};
@@ -247,9 +248,52 @@ struct Data {
     /// on these rows (win and draw models, tuning candidates): every candidate of a run has
     /// the run's bin settings (`Ctx::bins`).
     binned: std::sync::OnceLock<BinnedData>,
+    /// Column statistics for logistic fits, made on first use and shared by every logistic
+    /// fit on these rows (a penalty path; every candidate standardises).
+    prepared: std::sync::OnceLock<PreparedRows>,
+    /// As validation rows: binned with the edges of the rows being fitted (every boosted fit
+    /// that stops early on these rows has the same edges: tuning's, and the learning curve's,
+    /// whose rows are tuning's), made on first use.
+    prediction_bins: std::sync::OnceLock<BinnedData>,
 }
 
 impl Data {
+    /// Rows, matrix and labels, with nothing binned or prepared yet.
+    fn new(rows: Vec<crate::features::RowKey>, x: Matrix, won: Vec<f32>, draw: Vec<f32>) -> Self {
+        Self {
+            rows,
+            x,
+            won,
+            draw,
+            binned: Default::default(),
+            prepared: Default::default(),
+            prediction_bins: Default::default(),
+        }
+    }
+
+    /// The column statistics of these rows for logistic fits with `params`.
+    fn prepared(&self, params: &LogisticParams) -> Result<&PreparedRows, FitError> {
+        if let Some(p) = self.prepared.get() {
+            return Ok(p);
+        }
+        let p = params.prepare(&self.x)?;
+        Ok(self.prepared.get_or_init(|| p))
+    }
+
+    /// These rows as validation rows for a boosted fit on `fitted`, binned with its edges
+    /// (kept for the next fit with the same edges).
+    fn validation<'a>(&'a self, labels: &'a [f32], fitted: &BinnedData) -> Validation<'a> {
+        let bins = self
+            .prediction_bins
+            .get_or_init(|| BinnedData::for_prediction(&self.x, fitted));
+        Validation {
+            x: &self.x,
+            y: labels,
+            // Other edges: the fit bins these rows itself.
+            bins: (bins.edges == fitted.edges).then_some(bins),
+        }
+    }
+
     /// Whether any of the rows comes from a drawn session.
     fn has_draws(&self) -> bool {
         self.draw.iter().any(|&d| d > 0.5)
@@ -264,24 +308,6 @@ impl Data {
         Ok(self.binned.get_or_init(|| b))
     }
 
-    /// Appends `more`'s rows. When these rows are binned already, `more` is binned with the
-    /// same edges and groups, so the bins of every fit on the joined rows match tuning's.
-    fn append(&mut self, more: Data) -> Result<(), FitError> {
-        self.x.append(&more.x)?;
-        if let Some(mut b) = self.binned.take() {
-            let extra = BinnedData::new_like(&more.x, &b);
-            if b.append(&extra) {
-                self.binned = b.into();
-            }
-            // Otherwise (too many rows for one binned copy) the joined rows are binned afresh
-            // on first use, and the fit reports the limit.
-        }
-        self.rows.extend(more.rows);
-        self.won.extend(more.won);
-        self.draw.extend(more.draw);
-        Ok(())
-    }
-
     /// The rows of the listed sessions `(set, session)`, in row order, with their bins when
     /// these rows are binned already.
     fn sessions_subset(&self, sessions: &[(usize, usize)]) -> Data {
@@ -292,18 +318,23 @@ impl Data {
                 wanted.contains(&(k.set as usize, k.session as usize))
             })
             .collect();
-        let binned = std::sync::OnceLock::new();
+        self.select(&idx)
+    }
+
+    /// The rows at positions `idx` (in that order), with their bins when these rows are
+    /// binned already.
+    fn select(&self, idx: &[usize]) -> Data {
+        let subset = Data::new(
+            idx.iter().map(|&i| self.rows[i]).collect(),
+            self.x.select_rows(idx),
+            idx.iter().map(|&i| self.won[i]).collect(),
+            idx.iter().map(|&i| self.draw[i]).collect(),
+        );
         if let Some(b) = self.binned.get() {
             let idx32: Vec<u32> = idx.iter().map(|&i| i as u32).collect();
-            let _ = binned.set(b.select_rows(&idx32));
+            let _ = subset.binned.set(b.select_rows(&idx32));
         }
-        Data {
-            rows: idx.iter().map(|&i| self.rows[i]).collect(),
-            x: self.x.select_rows(&idx),
-            won: idx.iter().map(|&i| self.won[i]).collect(),
-            draw: idx.iter().map(|&i| self.draw[i]).collect(),
-            binned,
-        }
+        subset
     }
 }
 
@@ -387,13 +418,7 @@ impl Ctx<'_> {
         let values = std::mem::take(&mut table.values);
         let x = Matrix::new(table.rows.len(), table.columns.len(), values)?;
         let (won, draw) = labels(self.sets, &table);
-        Ok(Data {
-            rows: table.rows,
-            x,
-            won,
-            draw,
-            binned: Default::default(),
-        })
+        Ok(Data::new(table.rows, x, won, draw))
     }
 
     /// Fit the win model (and a draw model when the sessions have draws) on the sessions as
@@ -546,7 +571,7 @@ fn fit_one(
     data: &Data,
     labels: &[f32],
     values: Option<ValueRows>,
-    valid: Option<(&Matrix, &[f32])>,
+    valid: Option<(&Data, &[f32])>,
     warm: Option<&Fitted>,
     max_rounds: Option<usize>,
     bins: &BoostedParams,
@@ -559,7 +584,10 @@ fn fit_one(
                 Some(Fitted::Logistic(l)) => Some(l),
                 _ => None,
             };
-            Fitted::Logistic(p.fit_from(&data.x, labels, None, start, progress, cancel)?)
+            let prepared = data.prepared(p)?;
+            Fitted::Logistic(
+                p.fit_prepared(&data.x, prepared, labels, None, start, progress, cancel)?,
+            )
         }
         Chosen::Boosted(p) => {
             progress.report("binning", 0.0);
@@ -568,6 +596,7 @@ fn fit_one(
                 max_rounds: max_rounds.unwrap_or(p.max_rounds),
                 ..p.clone()
             };
+            let valid = valid.map(|(v, labels)| v.validation(labels, binned));
             Fitted::Boosted(
                 params.fit_binned_valued(binned, labels, None, values, valid, progress, cancel)?,
             )
@@ -590,30 +619,61 @@ struct BoostedTuning {
     /// Each boosted candidate's result.
     results: Vec<CandidateResult>,
     /// The best candidate's draw model on the first fold, when the fold has draws.
-    draw_model: Option<crate::models::boosted::Boosted>,
-    /// The rows that set tuning's leaf values, when trees were grown on sampled turns.
-    values: Option<FoldValues>,
-    /// Seconds spent building and binning `values`.
-    build_seconds: f64,
+    draw_model: Option<Boosted>,
+    /// Seconds spent binning the rows.
+    bin_seconds: f64,
 }
 
-/// Every turn of the training sessions, binned with the first fold's growth edges, and the
-/// rows of that fold's fitting part among them: the rows that set the leaf values of trees
-/// grown on the fold's sampled turns.
-struct FoldValues {
+/// Every training row (every fitted turn of every training session, with the start rows),
+/// built once when tuning has one validation fold, and which of them play which part.
+struct WholeRows {
+    /// The rows; their bins, once made, have the growth rows' edges.
     all: Data,
-    fit_part: Vec<u32>,
+    /// The validation fold's fitting part on the turns trees are grown on (every fitted turn
+    /// unless growth is sampled), with its start rows.
+    grow: Vec<usize>,
+    /// The rest of the fitting part: rows that only set leaf values (increasing).
+    extra: Vec<u32>,
+    /// The validation fold's rows, without start rows.
+    valid: Vec<usize>,
 }
 
-impl FoldValues {
-    /// The fitting part's rows with win or draw labels.
-    fn rows(&self, draw: bool) -> Option<ValueRows<'_>> {
-        Some(ValueRows {
-            data: self.all.binned.get()?,
-            rows: Some(&self.fit_part),
-            y: if draw { &self.all.draw } else { &self.all.won },
-            weights: None,
-        })
+impl WholeRows {
+    /// Splits `all` (built with the start rows) by the validation sessions and the growth sample.
+    fn split(
+        all: Data,
+        valid_sessions: &[(usize, usize)],
+        sets: &[&SessionSet],
+        grow_sample: TurnSample,
+    ) -> Self {
+        let in_fold: std::collections::HashSet<(usize, usize)> =
+            valid_sessions.iter().copied().collect();
+        let grown = rows_kept(&all.rows, sets, grow_sample, true);
+        // Every fitted turn, without the start rows.
+        let turns = rows_kept(&all.rows, sets, TurnSample::All, false);
+        let (mut grow, mut extra, mut valid) = (Vec::new(), Vec::new(), Vec::new());
+        for (i, k) in all.rows.iter().enumerate() {
+            if in_fold.contains(&(k.set as usize, k.session as usize)) {
+                if turns[i] {
+                    valid.push(i);
+                }
+            } else if grown[i] {
+                grow.push(i);
+            } else {
+                extra.push(i as u32);
+            }
+        }
+        Self {
+            all,
+            grow,
+            extra,
+            valid,
+        }
+    }
+
+    /// The growth rows' positions as bin-row indices.
+    fn grow_u32(&self) -> Vec<u32> {
+        self.grow.iter().map(|&i| i as u32).collect()
     }
 }
 
@@ -824,8 +884,11 @@ pub fn train(
     // validation fold (a learning-curve point for free: it never saw the test sessions).
     let mut best: Option<(f64, Chosen, Option<Fitted>)> = None;
     let n_candidates = candidates.len();
-    // Each fold's tables are built once and shared by every candidate.
+    // Each fold's tables are built once and shared by every candidate. With one validation
+    // fold, every training row is built once (`whole`): the fold's fitting rows (its growth
+    // turns), its validation rows, the leaf-value rows and the final rows are picked from it.
     let mut fold_data = Vec::new();
+    let mut whole: Option<WholeRows> = None;
     // Training sessions behind the first fold's fits.
     let mut first_fold_sessions = 0;
     for &f in &cv_folds {
@@ -837,32 +900,40 @@ pub fn train(
         if fold_data.is_empty() {
             first_fold_sessions = fit_on.len();
         }
-        fold_data.push((
-            ctx.data_sampled(&fit_on, true, grow_sample)?,
-            ctx.data(&valid, false)?,
-        ));
+        if cv_folds.len() == 1 {
+            let all = ctx.data(&train_sessions, true)?;
+            let w = WholeRows::split(all, &valid, sets, grow_sample);
+            fold_data.push((w.all.select(&w.grow), w.all.select(&w.valid)));
+            whole = Some(w);
+        } else {
+            fold_data.push((
+                ctx.data_sampled(&fit_on, true, grow_sample)?,
+                ctx.data(&valid, false)?,
+            ));
+        }
     }
-    // With growth on sampled turns, boosted candidates take their leaf values from every turn
-    // of the fold's fitting part: those rows are part of the final rows, built and binned with
-    // the edges of the growth rows by the boosted side of the join below, beside the
-    // logistic path.
-    let build_fold_values = grow.is_some() && wants_boosted && !fold_data.is_empty();
-    let first_fold: std::collections::HashSet<(usize, usize)> = if build_fold_values {
-        fold_sessions(cv_folds[0], true).into_iter().collect()
-    } else {
-        Default::default()
+    // Boosted candidates need the rows binned: the edges come from the growth rows, every
+    // training row is binned with them once (the final rows and the leaf-value rows) and
+    // the growth rows' bins are picked from those. Done by the boosted side of the join
+    // below, beside the logistic path.
+    let bin_whole = || -> Result<(), TrainError> {
+        let (Some(w), Some((grow_rows, _))) = (&whole, fold_data.first()) else {
+            return Ok(());
+        };
+        let binned = ctx.bins.bin_with_edges_of(&w.all.x, &grow_rows.x)?;
+        let _ = grow_rows.binned.set(binned.select_rows(&w.grow_u32()));
+        let _ = w.all.binned.set(binned);
+        Ok(())
     };
-    let fold_values = || -> Result<FoldValues, TrainError> {
-        let all = ctx.build(&train_sessions, true, ctx.sample)?;
-        let like = fold_data[0].0.binned(&ctx.bins)?;
-        let _ = all.binned.set(BinnedData::new_like(&all.x, like));
-        let fit_part = (0..all.rows.len() as u32)
-            .filter(|&i| {
-                let k = &all.rows[i as usize];
-                !first_fold.contains(&(k.set as usize, k.session as usize))
-            })
-            .collect();
-        Ok(FoldValues { all, fit_part })
+    // The rows that join the first fold's growth rows in setting leaf values.
+    let fold_values = |draw: bool| -> Option<ValueRows> {
+        let w = whole.as_ref()?;
+        Some(ValueRows {
+            data: w.all.binned.get()?,
+            rows: Some(&w.extra),
+            y: if draw { &w.all.draw } else { &w.all.won },
+            weights: None,
+        })
     };
     // The logistic path and the boosted candidates run side by side (each fit is
     // deterministic, and the results are merged in candidate order, so the choice is the
@@ -876,8 +947,7 @@ pub fn train(
         stage: "tuning",
     };
     let run_candidate = |cand: &Chosen,
-                         warm: &mut [Option<Fitted>],
-                         values: Option<&FoldValues>|
+                         warm: &mut [Option<Fitted>]|
      -> Result<Option<CandidateResult>, TrainError> {
         let mut loss = 0.0;
         let mut rounds_sum = 0usize;
@@ -887,8 +957,8 @@ pub fn train(
                 cand,
                 fit_data,
                 &fit_data.won,
-                values.filter(|_| fi == 0).and_then(|v| v.rows(false)),
-                Some((&valid_data.x, &valid_data.won)),
+                if fi == 0 { fold_values(false) } else { None },
+                Some((valid_data, &valid_data.won)),
                 warm.get(fi).and_then(Option::as_ref),
                 None,
                 &ctx.bins,
@@ -939,7 +1009,7 @@ pub fn train(
             let mut warm: Vec<Option<Fitted>> = vec![None; fold_data.len()];
             let mut results: Vec<CandidateResult> = Vec::new();
             for (i, cand) in logistic.iter().enumerate() {
-                let Some(r) = run_candidate(cand, &mut warm, None)? else {
+                let Some(r) = run_candidate(cand, &mut warm)? else {
                     continue;
                 };
                 let rose = results.last().is_some_and(|last| r.loss > last.loss);
@@ -952,44 +1022,36 @@ pub fn train(
         },
         || -> Result<BoostedTuning, TrainError> {
             let t0 = Instant::now();
-            let values = if build_fold_values {
-                Some(fold_values()?)
-            } else {
-                None
-            };
-            let build_seconds = t0.elapsed().as_secs_f64();
+            bin_whole()?;
+            let bin_seconds = t0.elapsed().as_secs_f64();
             let mut results: Vec<CandidateResult> = Vec::new();
-            for cand in &boosted {
-                results.extend(run_candidate(cand, &mut [], values.as_ref())?);
-            }
-            // The best boosted candidate's draw rounds, by early stopping on the first fold
+            // The best boosted candidate's draw model, by early stopping on the first fold
             // (used only when boosted trees are chosen): draws are rare, so they usually need
-            // far fewer trees than wins, and more would overfit.
-            let best_boosted = results
-                .iter()
-                .fold(None::<&CandidateResult>, |b, r| match b {
-                    Some(b) if b.loss <= r.loss => Some(b),
-                    _ => Some(r),
-                });
-            let draw_rounds = match (best_boosted, fold_data.first()) {
-                (Some(b), Some((fit_data, valid_data)))
-                    if fit_data.has_draws() && valid_data.has_draws() =>
-                {
-                    // Evaluated twice as often as the win model: a draw model keeps few
-                    // trees, and the patience then costs half as many unused ones.
-                    let draw_candidate = match &b.tuned {
-                        Chosen::Boosted(p) => Chosen::Boosted(BoostedParams {
-                            eval_every: p.eval_every.div_ceil(2),
-                            ..p.clone()
-                        }),
-                        other => other.clone(),
-                    };
+            // far fewer trees than wins, and more would overfit. Evaluated twice as often as
+            // the win model: a draw model keeps few trees, and the patience then costs half
+            // as many unused ones. Only its rounds depend on the candidate's fit, not its
+            // settings, so with one candidate it grows beside the win model.
+            let draw_fit = |cand: &Chosen| -> Result<Option<Boosted>, TrainError> {
+                let Some((fit_data, valid_data)) = fold_data.first() else {
+                    return Ok(None);
+                };
+                if !(fit_data.has_draws() && valid_data.has_draws()) {
+                    return Ok(None);
+                }
+                let draw_candidate = match cand {
+                    Chosen::Boosted(p) => Chosen::Boosted(BoostedParams {
+                        eval_every: p.eval_every.div_ceil(2),
+                        ..p.clone()
+                    }),
+                    other => other.clone(),
+                };
+                Ok(
                     match fit_one(
                         &draw_candidate,
                         fit_data,
                         &fit_data.draw,
-                        values.as_ref().and_then(|v| v.rows(true)),
-                        Some((&valid_data.x, &valid_data.draw)),
+                        fold_values(true),
+                        Some((valid_data, &valid_data.draw)),
                         None,
                         Some(options.boosted.max_rounds),
                         &ctx.bins,
@@ -998,15 +1060,32 @@ pub fn train(
                     )? {
                         Fitted::Boosted(m) => Some(m),
                         Fitted::Logistic(_) => None,
-                    }
+                    },
+                )
+            };
+            let draw_rounds = if let [only] = &boosted[..] {
+                let (win, draw) = rayon::join(|| run_candidate(only, &mut []), || draw_fit(only));
+                results.extend(win?);
+                draw?
+            } else {
+                for cand in &boosted {
+                    results.extend(run_candidate(cand, &mut [])?);
                 }
-                _ => None,
+                let best_boosted = results
+                    .iter()
+                    .fold(None::<&CandidateResult>, |b, r| match b {
+                        Some(b) if b.loss <= r.loss => Some(b),
+                        _ => Some(r),
+                    });
+                match best_boosted {
+                    Some(b) => draw_fit(&b.tuned)?,
+                    None => None,
+                }
             };
             Ok(BoostedTuning {
                 results,
                 draw_model: draw_rounds,
-                values,
-                build_seconds,
+                bin_seconds,
             })
         },
     );
@@ -1014,12 +1093,11 @@ pub fn train(
     let BoostedTuning {
         results: boosted_results,
         draw_model: boosted_draw_model,
-        values: fold_values,
-        build_seconds,
+        bin_seconds,
     } = boosted_results?;
-    // The fold values' table was built while the logistic path was fitting.
-    ctx.timings.features += build_seconds;
-    ctx.timings.fit += t0.elapsed().as_secs_f64() - build_seconds;
+    // The rows were binned while the logistic path was fitting; binning counts as features.
+    ctx.timings.features += bin_seconds;
+    ctx.timings.fit += t0.elapsed().as_secs_f64() - bin_seconds;
     let boosted_draw_rounds = boosted_draw_model.as_ref().map(|m| m.best_rounds.max(1));
     for r in logistic_results.into_iter().chain(boosted_results) {
         tuning.push(TuningRecord {
@@ -1044,19 +1122,16 @@ pub fn train(
     if matches!(chosen, Chosen::Boosted(_)) {
         ctx.draw_rounds = boosted_draw_rounds;
     }
-    // With one validation fold, its tables are kept: the validation rows for the learning
-    // curve's early stopping, the fitting rows for the final rows (below). Other tuning
+    // With one validation fold, the rows built once are kept: every row for the final fit,
+    // the fold's growth and validation rows for the learning curve's fits. Other tuning
     // tables are freed before the final fit.
-    let tuned_fold = if cv_folds.len() == 1 && fold_data.len() == 1 {
-        fold_data.pop()
-    } else {
-        None
+    let tuned_fold = match (whole, fold_data.len()) {
+        (Some(w), 1) => fold_data
+            .pop()
+            .map(|(grow_rows, valid)| (w, grow_rows, valid)),
+        _ => None,
     };
     drop(fold_data);
-    let tuning_edges: Option<Vec<crate::models::boosted::bins::BinEdges>> = tuned_fold
-        .as_ref()
-        .and_then(|(fit, _)| fit.binned.get())
-        .map(|b| b.edges.clone());
     ctx.timings.stage("tuning", stage_start);
     for t in &mut tuning {
         t.chosen = t.candidate == chosen.describe() && t.valid_log_loss == best_loss;
@@ -1132,40 +1207,26 @@ pub fn train(
         |m: usize| -> Vec<(usize, usize)> { ordered[..m].iter().map(|x| x.1).collect() };
 
     // The final model, on every training session. With one validation fold, boosted trees are
-    // the tuned ones with their leaf values set on every training row (the final rows are
-    // binned with the fold's edges); when the fold's fitting rows are every turn, they are the
-    // start of the final rows (the fold's own sessions are appended, binned alike), so the
-    // table is built once. The learning curve's small fits use the machine's cores poorly one
-    // at a time; when their tables are small, they run beside the final fit (each fit is
+    // the tuned ones with their leaf values set on every training row (binned with the
+    // fold's edges). The learning curve's small fits use the machine's cores poorly one at a
+    // time; when their tables are small, they run beside the final fit (each fit is
     // deterministic, so nothing depends on the thread count). Large tables are fitted one at
     // a time, after it, to bound memory.
     progress.report("final fit", 0.0);
     let stage_start = Instant::now();
-    let (final_data, tuning_fit, valid_data) = match tuned_fold {
-        Some((mut fit, valid)) if grow.is_none() => {
-            fit.append(ctx.data(&fold_sessions(cv_folds[0], true), true)?)?;
-            (fit, None, Some(valid))
-        }
-        Some((fit, valid)) => {
-            let all = match fold_values {
-                Some(v) => v.all,
-                None => ctx.data(&train_sessions, true)?,
-            };
-            if let (Some(b), None) = (fit.binned.get(), all.binned.get()) {
-                let _ = all.binned.set(BinnedData::new_like(&all.x, b));
-            }
-            (all, Some(fit), Some(valid))
-        }
-        None => (ctx.data(&train_sessions, true)?, None, None),
+    let (final_data, tuning_fit, valid_data, extra_rows) = match tuned_fold {
+        Some((w, grow_rows, valid)) => (w.all, Some(grow_rows), Some(valid), w.extra),
+        None => (ctx.data(&train_sessions, true)?, None, None, Vec::new()),
     };
     let trained_rows = final_data.rows.len();
-    // The tuned trees can take new leaf values only on rows binned with their edges.
-    let refit_tuned = match (&chosen, tuning_model.as_ref(), &tuning_edges) {
-        (Chosen::Boosted(_), Some(Fitted::Boosted(_)), Some(edges)) => {
-            final_data.binned(&ctx.bins)?.edges == *edges
-        }
-        _ => false,
-    };
+    // The tuned trees can take new leaf values on the final rows, binned with their edges.
+    let refit_tuned = matches!(
+        (&chosen, tuning_model.as_ref()),
+        (Chosen::Boosted(_), Some(Fitted::Boosted(_)))
+    ) && tuning_fit
+        .as_ref()
+        .is_some_and(|g| g.binned.get().is_some())
+        && final_data.binned.get().is_some();
     // The tuned boosted candidate with rounds left to early stopping, for the curve's fits.
     let curve_candidate = match (&chosen, &valid_data) {
         (Chosen::Boosted(p), Some(_)) => Chosen::Boosted(BoostedParams {
@@ -1177,17 +1238,19 @@ pub fn train(
     // One learning-curve fit on the first `m` sessions of `ordered`, fitted as tuning fitted
     // its candidates: logistic on every turn; boosted trees with early stopping on the
     // validation rows, grown on the fold's growth rows (one turn in two when sampled, each
-    // tree's leaf values then set on every turn of the subset).
+    // tree's leaf values then set with the subset's other turns too).
     let curve_fit = |m: usize| -> Result<Fitted, TrainError> {
         let quiet = crate::progress::NoProgress;
         let sessions = subset_of(m);
-        let valid = valid_data.as_ref().map(|v| (&v.x, &v.won[..]));
+        let valid = valid_data.as_ref().map(|v| (v, &v.won[..]));
         match (&curve_candidate, valid, &tuning_fit) {
             (Chosen::Boosted(_), Some(valid), Some(grow_rows)) => {
                 let grown = grow_rows.sessions_subset(&sessions);
                 let wanted: std::collections::HashSet<(usize, usize)> =
                     sessions.iter().copied().collect();
-                let rows: Vec<u32> = (0..final_data.rows.len() as u32)
+                let rows: Vec<u32> = extra_rows
+                    .iter()
+                    .copied()
                     .filter(|&i| {
                         let k = &final_data.rows[i as usize];
                         wanted.contains(&(k.set as usize, k.session as usize))

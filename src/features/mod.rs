@@ -5,8 +5,8 @@ mod table;
 
 pub use spec::{FeatureParams, FeatureSpec};
 pub use table::{
-    RowKey, TurnSample, TurnTable, build_table, build_training_table, session_table, stable_hash,
-    start_table,
+    RowKey, TurnSample, TurnTable, build_table, build_training_table, rows_kept, session_table,
+    stable_hash, start_table,
 };
 
 #[cfg(test)]

@@ -253,6 +253,50 @@ impl TurnSample {
             },
         }
     }
+
+    /// Whether turn `turn` of the session with id `session_id` becomes a row.
+    pub fn keeps(&self, session_id: &str, turn: u32) -> bool {
+        match *self {
+            TurnSample::All => true,
+            TurnSample::OneIn { every, seed } => {
+                every <= 1
+                    || stable_hash(seed, session_id, u64::from(turn))
+                        .is_multiple_of(u64::from(every))
+            }
+        }
+    }
+}
+
+/// Which rows of a table made by [`build_training_table`] a table of the same sessions made
+/// with `sample` holds: every "before the first turn" row (a session's first rows, one per
+/// actor) and the rows of the turns `sample` keeps. With `starts` false, the start rows are
+/// left out (what [`build_table`] would hold). When `sample` keeps a subset of the turns the
+/// table was made with (see [`TurnSample::thinned`]), the rows picked are exactly the rows
+/// that building with `sample` gives, in the same order.
+pub fn rows_kept(
+    rows: &[RowKey],
+    sets: &[&SessionSet],
+    sample: TurnSample,
+    starts: bool,
+) -> Vec<bool> {
+    let mut kept = Vec::with_capacity(rows.len());
+    let mut current: Option<(u16, u32)> = None;
+    let mut seen_in_session = 0usize;
+    for k in rows {
+        if current != Some((k.set, k.session)) {
+            current = Some((k.set, k.session));
+            seen_in_session = 0;
+        }
+        let is_start = seen_in_session < usize::from(k.actors);
+        seen_in_session += 1;
+        let id = &sets[k.set as usize].sessions[k.session as usize].id;
+        kept.push(if is_start {
+            starts
+        } else {
+            sample.keeps(id, k.turn)
+        });
+    }
+    kept
 }
 
 /// A 64-bit mix of a seed, a text and a number (SplitMix64 finaliser over FNV-1a).
@@ -310,17 +354,9 @@ fn build_rows(
                 return None;
             }
             let session = &sets[si].sessions[k];
-            let keep: Box<dyn Fn(u32) -> bool> = match sample {
-                TurnSample::All => Box::new(|_| true),
-                TurnSample::OneIn { every, seed } => {
-                    let id = session.id.clone();
-                    Box::new(move |t| {
-                        every <= 1 || stable_hash(seed, &id, t as u64).is_multiple_of(every as u64)
-                    })
-                }
-            };
+            let keep = |t: u32| sample.keeps(&session.id, t);
             Some(session_rows(
-                spec, &maps[si], session, si as u16, k as u32, &*keep, with_start,
+                spec, &maps[si], session, si as u16, k as u32, &keep, with_start,
             ))
         })
         .collect();

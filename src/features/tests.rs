@@ -158,3 +158,53 @@ fn turn_sampling_is_deterministic_and_keeps_about_the_share_asked() {
     assert_eq!(a.rows, b.rows);
     assert!(a.rows.len() < 10);
 }
+
+#[test]
+fn rows_kept_from_an_every_turn_table_are_the_rows_a_sampled_build_gives() {
+    // Sessions whose logs start at turn 0 (so start rows and turn-0 rows both carry turn 0),
+    // with three actors and some turns where only one acts.
+    let mut events = String::from("session,turn,actor,event,detail,score\n");
+    let actors = ["Ama", "Bex", "Cole"];
+    for g in 0..7 {
+        for t in 0..(20 + 3 * g) {
+            for (a, name) in actors.iter().enumerate() {
+                if (t + a + g) % 3 != 1 {
+                    events.push_str(&format!("s{g},{t},{name},raid,gate {t},{}\n", t + a));
+                }
+            }
+        }
+    }
+    let outcomes = "session,winner\ns0,Ama\ns1,Bex\ns2,Cole\ns3,Ama\ns4,Bex\ns5,Cole\ns6,Ama\n";
+    let set = load_set_from_reader(
+        events.as_bytes(),
+        EventSource::Csv,
+        Some(outcomes.as_bytes()),
+    );
+    assert!(set.is_usable(), "{:?}", set.problems);
+    let spec = spec_for(&set, 1);
+    let sessions: Vec<(usize, usize)> = (0..7).rev().map(|k| (0, k)).collect();
+    let cancel = Cancel::new();
+    let base = TurnSample::OneIn { every: 1, seed: 3 };
+    let full = build_training_table(&spec, &[&set], &sessions, TurnSample::All, &cancel).unwrap();
+    for sample in [
+        TurnSample::All,
+        TurnSample::All.thinned(2, 11),
+        TurnSample::All.thinned(3, 5),
+        base.thinned(2, 3),
+    ] {
+        for starts in [true, false] {
+            let kept = rows_kept(&full.rows, &[&set], sample, starts);
+            let picked: Vec<usize> = (0..full.rows.len()).filter(|&i| kept[i]).collect();
+            let built = if starts {
+                build_training_table(&spec, &[&set], &sessions, sample, &cancel).unwrap()
+            } else {
+                build_table(&spec, &[&set], &sessions, sample, &cancel).unwrap()
+            };
+            assert_eq!(picked.len(), built.rows.len(), "{sample:?} starts {starts}");
+            for (r, &i) in picked.iter().enumerate() {
+                assert_eq!(full.rows[i], built.rows[r]);
+                assert_eq!(full.row(i), built.row(r));
+            }
+        }
+    }
+}

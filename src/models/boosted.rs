@@ -10,7 +10,7 @@ pub mod partition;
 pub mod split;
 pub mod tree;
 
-pub use booster::{Boosted, EvalRecord, ValueRows};
+pub use booster::{Boosted, EvalRecord, Validation, ValueRows};
 pub use params::BoostedParams;
 pub use tree::Tree;
 

@@ -16,7 +16,18 @@ mod scaling;
 mod trust_region;
 
 use row_passes::{Design, information_matrix};
-use scaling::column_scaling;
+use scaling::{ColumnScaling, column_scaling};
+
+/// What every fit on one matrix needs to know about its columns, computed once: checked for
+/// infinite values, column means and scales, and a copy with missing values filled in when
+/// there are any. A penalty path fits the same rows several times; each fit would otherwise
+/// repeat these passes over the whole matrix.
+pub struct PreparedRows {
+    scaling: ColumnScaling,
+    imputed: Option<Matrix>,
+    standardize: bool,
+    shape: (usize, usize),
+}
 
 /// Hyperparameters of the logistic regression.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -92,12 +103,45 @@ impl LogisticParams {
         progress: &dyn Progress,
         cancel: &Cancel,
     ) -> Result<Logistic, FitError> {
-        self.check()?;
-        check_labels_and_weights(x.n_rows(), y, weights)?;
+        let prepared = self.prepare(x)?;
+        self.fit_prepared(x, &prepared, y, weights, start, progress, cancel)
+    }
+
+    /// Checks `x` and computes what every fit on it shares (for [`Self::fit_prepared`]).
+    pub fn prepare(&self, x: &Matrix) -> Result<PreparedRows, FitError> {
         check_finite_features(x)?;
         let scaling = column_scaling(x, self.standardize);
         let imputed = scaling.impute_copy(x);
-        let x_used = imputed.as_ref().unwrap_or(x);
+        Ok(PreparedRows {
+            scaling,
+            imputed,
+            standardize: self.standardize,
+            shape: (x.n_rows(), x.n_cols()),
+        })
+    }
+
+    /// [`Self::fit_from`] on rows `x` prepared beforehand by [`Self::prepare`] (with any
+    /// penalty; rows prepared for another `standardize` setting, or of another shape, are
+    /// prepared again). The result is identical to `fit_from`.
+    #[allow(clippy::too_many_arguments)]
+    pub fn fit_prepared(
+        &self,
+        x: &Matrix,
+        prepared: &PreparedRows,
+        y: &[f32],
+        weights: Option<&[f32]>,
+        start: Option<&Logistic>,
+        progress: &dyn Progress,
+        cancel: &Cancel,
+    ) -> Result<Logistic, FitError> {
+        self.check()?;
+        check_labels_and_weights(x.n_rows(), y, weights)?;
+        if prepared.standardize != self.standardize || prepared.shape != (x.n_rows(), x.n_cols()) {
+            let again = self.prepare(x)?;
+            return self.fit_prepared(x, &again, y, weights, start, progress, cancel);
+        }
+        let scaling = &prepared.scaling;
+        let x_used = prepared.imputed.as_ref().unwrap_or(x);
         let design = Design::new(
             x_used,
             y,
@@ -119,10 +163,10 @@ impl LogisticParams {
             }
         }
         Ok(Logistic {
-            means: scaling.means,
-            scales: scaling.scales,
-            impute: scaling.impute,
-            estimated: scaling.free,
+            means: scaling.means.clone(),
+            scales: scaling.scales.clone(),
+            impute: scaling.impute.clone(),
+            estimated: scaling.free.clone(),
             coefficients,
             intercept: outcome.intercept,
             l2: self.l2,

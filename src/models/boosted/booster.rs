@@ -73,17 +73,27 @@ fn mean_log_loss(scores: &[f64], y: &[f32], weights: Option<&[f32]>) -> f64 {
 }
 
 fn log_odds_of_mean(y: &[f32], weights: Option<&[f32]>) -> f64 {
-    let (s, t) = y.iter().enumerate().fold((0.0, 0.0), |(s, t), (i, &v)| {
+    let (s, t) = label_sums(y.iter().enumerate().map(|(i, &l)| (i, l)), weights);
+    log_odds(s / t)
+}
+
+/// Weighted sum of labels and total weight over `(row, label)` pairs.
+fn label_sums(labels: impl Iterator<Item = (usize, f32)>, weights: Option<&[f32]>) -> (f64, f64) {
+    labels.fold((0.0, 0.0), |(s, t), (i, v)| {
         let w = weights.map_or(1.0, |w| f64::from(w[i]));
         (s + w * f64::from(v), t + w)
-    });
-    let mean = (s / t).clamp(1e-12, 1.0 - 1e-12);
+    })
+}
+
+/// Log-odds of a mean label, kept finite.
+fn log_odds(mean: f64) -> f64 {
+    let mean = mean.clamp(1e-12, 1.0 - 1e-12);
     (mean / (1.0 - mean)).ln()
 }
 
-/// Rows whose labels set every new tree's leaf values, when they are not the rows the trees
-/// are grown on: for example every turn of some sessions, with the trees grown on one turn in
-/// two. They must be binned with the growth rows' edges and include those rows' positions.
+/// Rows that join the growth rows in setting every new tree's leaf values without shaping
+/// the trees: for example the turns left out when trees are grown on one turn in two. They
+/// must be binned with the growth rows' edges and must not repeat the growth rows.
 #[derive(Clone, Copy)]
 pub struct ValueRows<'a> {
     /// The binned rows (the growth rows' edges).
@@ -96,21 +106,32 @@ pub struct ValueRows<'a> {
     pub weights: Option<&'a [f32]>,
 }
 
-/// Leaf values for `tree` from `rows` of `data` at their current margins `scores` (one per
-/// listed row): each leaf's Newton value −G/(H + λ) times the learning rate, or its old value
-/// when no row of positive weight reaches it. Writes each row's leaf to `leaf_of` and adds the
-/// new values to `scores`. Sums are added in fixed chunk order (thread-count independent).
-#[allow(clippy::too_many_arguments)]
-fn newton_leaf_values(
+/// Rows that judge early stopping: their raw values and labels, and optionally the same rows
+/// binned beforehand with the training rows' edges ([`BinnedData::for_prediction`]), so that
+/// several fits on rows with the same edges bin them once. Bins made with other edges are
+/// ignored (the rows are binned again).
+#[derive(Clone, Copy)]
+pub struct Validation<'a> {
+    /// The rows' raw feature values.
+    pub x: &'a Matrix,
+    /// Their labels.
+    pub y: &'a [f32],
+    /// The rows binned with the training rows' edges, when already done.
+    pub bins: Option<&'a BinnedData>,
+}
+
+/// Gradient and hessian sums per leaf of `tree` over `rows` of `data` at their current
+/// margins `scores` (one per listed row); writes each row's leaf to `leaf_of`. Sums are added
+/// in fixed chunk order (thread-count independent).
+fn leaf_sums(
     tree: &Tree,
     data: &BinnedData,
     rows: &[u32],
     y: &[f32],
     weights: Option<&[f32]>,
-    scores: &mut [f64],
+    scores: &[f64],
     leaf_of: &mut [u32],
-    params: &BoostedParams,
-) -> Vec<f64> {
+) -> Vec<(f64, f64)> {
     let leaves = tree.n_leaves();
     let weight = |i: usize| weights.map_or(1.0, |w| f64::from(w[i]));
     let partials: Vec<Vec<(f64, f64)>> = leaf_of
@@ -126,10 +147,9 @@ fn newton_leaf_values(
                 );
                 for ((&leaf, &z), &r) in chunk_leaves.iter().zip(chunk_scores).zip(chunk_rows) {
                     let i = r as usize;
-                    let leaf = leaf as usize;
                     let w = weight(i);
                     let prob = sigmoid(z);
-                    let e = &mut sums[leaf];
+                    let e = &mut sums[leaf as usize];
                     e.0 += w * (prob - f64::from(y[i]));
                     e.1 += w * prob * (1.0 - prob);
                 }
@@ -144,9 +164,14 @@ fn newton_leaf_values(
             a.1 += b.1;
         }
     }
-    let values: Vec<f64> = sums
-        .iter()
-        .zip(&tree.leaf_values)
+    sums
+}
+
+/// Each leaf's Newton value −G/(H + λ) times the learning rate from its sums, or its `old`
+/// value when no row of positive weight reached it.
+fn newton_values(sums: &[(f64, f64)], old: &[f64], params: &BoostedParams) -> Vec<f64> {
+    sums.iter()
+        .zip(old)
         .map(|(&(g, h), &old)| {
             if h > 0.0 {
                 -g / (h + params.l2_leaf) * params.learning_rate
@@ -154,7 +179,11 @@ fn newton_leaf_values(
                 old
             }
         })
-        .collect();
+        .collect()
+}
+
+/// Adds each row's leaf value to its margin.
+fn add_leaf_values(scores: &mut [f64], leaf_of: &[u32], values: &[f64]) {
     scores
         .par_chunks_mut(CHUNK_ROWS)
         .zip(leaf_of.par_chunks(CHUNK_ROWS))
@@ -163,7 +192,6 @@ fn newton_leaf_values(
                 *v += values[leaf as usize];
             }
         });
-    values
 }
 
 /// The listed rows, or every row of `data`, checked to be in range.
@@ -194,12 +222,8 @@ fn rows_or_all<'a>(
 
 /// Log-odds of the weighted mean label over `rows`.
 fn log_odds_of_rows(rows: &[u32], y: &[f32], weights: Option<&[f32]>) -> f64 {
-    let (s, t) = rows.iter().fold((0.0, 0.0), |(s, t), &r| {
-        let w = weights.map_or(1.0, |w| f64::from(w[r as usize]));
-        (s + w * f64::from(y[r as usize]), t + w)
-    });
-    let mean = (s / t).clamp(1e-12, 1.0 - 1e-12);
-    (mean / (1.0 - mean)).ln()
+    let (s, t) = label_sums(rows.iter().map(|&r| (r as usize, y[r as usize])), weights);
+    log_odds(s / t)
 }
 
 impl BoostedParams {
@@ -244,6 +268,33 @@ impl BoostedParams {
         Ok(BinnedData::new(x, find_edges(x, self.max_bins, self.seed)))
     }
 
+    /// Bins `x` with the edges [`Self::bin`] would find on `sample` (such as some of `x`'s
+    /// rows, those trees will be grown on).
+    pub fn bin_with_edges_of(&self, x: &Matrix, sample: &Matrix) -> Result<BinnedData, FitError> {
+        self.check()?;
+        if x.n_cols() == 0 {
+            return Err(FitError::Empty("the matrix has no columns"));
+        }
+        if x.n_cols() != sample.n_cols() {
+            return Err(FitError::ColumnMismatch {
+                what: "rows to bin",
+                expected: sample.n_cols(),
+                actual: x.n_cols(),
+            });
+        }
+        let max_rows = u32::MAX as usize / MAX_FEATURES_PER_GROUP;
+        if x.n_rows() > max_rows {
+            return Err(FitError::TooManyRows {
+                rows: x.n_rows(),
+                max: max_rows,
+            });
+        }
+        Ok(BinnedData::new(
+            x,
+            find_edges(sample, self.max_bins, self.seed),
+        ))
+    }
+
     /// [`Self::fit`] on rows binned beforehand by [`Self::bin`] (with the same `max_bins` and
     /// `seed`; the result is then identical to `fit` on the raw rows).
     pub fn fit_binned(
@@ -255,14 +306,16 @@ impl BoostedParams {
         progress: &dyn Progress,
         cancel: &Cancel,
     ) -> Result<Boosted, FitError> {
+        let valid = valid.map(|(x, y)| Validation { x, y, bins: None });
         self.fit_binned_valued(data, y, weights, None, valid, progress, cancel)
     }
 
-    /// [`Self::fit_binned`], with every tree's leaf values set on `values` when given (grown
-    /// on `data`, valued on other rows, such as every turn when `data` holds one turn in two):
-    /// the starting margin comes from `values`' labels, each tree is grown on the gradients of
-    /// `data` at the model's margins so far, then its leaves get their Newton values on
-    /// `values`, and early stopping judges that model.
+    /// [`Self::fit_binned`], with every tree's leaf values set on the growth rows and
+    /// `values` together when given (grown on `data`, valued on more rows, such as the turns
+    /// left out when `data` holds one turn in two): the starting margin comes from both sets
+    /// of labels, each tree is grown on the gradients of `data` at the model's margins so
+    /// far, then each leaf gets the Newton value of the growth rows' sums (which the tree
+    /// holds already) plus the value rows' sums, and early stopping judges that model.
     #[allow(clippy::too_many_arguments)]
     pub fn fit_binned_valued(
         &self,
@@ -270,7 +323,7 @@ impl BoostedParams {
         y: &[f32],
         weights: Option<&[f32]>,
         values: Option<ValueRows>,
-        valid: Option<(&Matrix, &[f32])>,
+        valid: Option<Validation>,
         progress: &dyn Progress,
         cancel: &Cancel,
     ) -> Result<Boosted, FitError> {
@@ -279,7 +332,7 @@ impl BoostedParams {
         if data.n_features() == 0 {
             return Err(FitError::Empty("the matrix has no columns"));
         }
-        if let Some((vx, vy)) = valid {
+        if let Some(Validation { x: vx, y: vy, .. }) = valid {
             if vx.n_cols() != data.n_features() {
                 return Err(FitError::ColumnMismatch {
                     what: "validation matrix",
@@ -312,21 +365,43 @@ impl BoostedParams {
                         actual: v.data.n_features(),
                     });
                 }
-                Some(rows_or_all(v.data, v.rows, &mut all_values)?)
+                // No extra rows: the growth rows alone, as without `values`.
+                if v.rows.is_some_and(<[u32]>::is_empty) || v.data.n_rows() == 0 {
+                    None
+                } else {
+                    Some(rows_or_all(v.data, v.rows, &mut all_values)?)
+                }
             }
             None => None,
         };
         let base_score = match (&values, value_rows) {
-            (Some(v), Some(rows)) => log_odds_of_rows(rows, v.y, v.weights),
+            (Some(v), Some(rows)) => {
+                let (s, t) = label_sums(y.iter().enumerate().map(|(i, &l)| (i, l)), weights);
+                let (vs, vt) = label_sums(
+                    rows.iter().map(|&r| (r as usize, v.y[r as usize])),
+                    v.weights,
+                );
+                log_odds((s + vs) / (t + vt))
+            }
             _ => log_odds_of_mean(y, weights),
         };
         let mut value_scores = vec![base_score; value_rows.map_or(0, <[u32]>::len)];
         let mut value_leaf = vec![0u32; value_scores.len()];
         let mut scores = vec![base_score; n];
-        let mut valid_scores = valid.map(|(vx, _)| vec![base_score; vx.n_rows()]);
+        let mut valid_scores = valid.map(|v| vec![base_score; v.x.n_rows()]);
         // Validation rows binned with the training edges: each new tree is walked on bins,
         // which gives the same leaf as the raw values (value ≤ edge ⇔ bin ≤ the edge's bin).
-        let valid_bins = valid.map(|(vx, _)| BinnedData::for_prediction(vx, data));
+        let binned_here;
+        let valid_bins = match valid {
+            Some(Validation {
+                bins: Some(b), x, ..
+            }) if b.n_rows() == x.n_rows() && b.edges == data.edges => Some(b),
+            Some(v) => {
+                binned_here = BinnedData::for_prediction(v.x, data);
+                Some(&binned_here)
+            }
+            None => None,
+        };
         let mut gradients = vec![[0.0f32; 2]; n];
         let mut learner = TreeLearner::default();
         let mut trees: Vec<Tree> = Vec::new();
@@ -386,19 +461,25 @@ impl BoostedParams {
                 params: self,
             });
             if let (Some(v), Some(rows)) = (&values, value_rows) {
-                tree.leaf_values = newton_leaf_values(
+                // The growth rows' sums come with the tree; the value rows' are added to them.
+                let mut sums = leaf_sums(
                     &tree,
                     v.data,
                     rows,
                     v.y,
                     v.weights,
-                    &mut value_scores,
+                    &value_scores,
                     &mut value_leaf,
-                    self,
                 );
+                for (s, t) in sums.iter_mut().zip(learner.leaf_totals()) {
+                    s.0 += t.g;
+                    s.1 += t.h;
+                }
+                tree.leaf_values = newton_values(&sums, &tree.leaf_values, self);
+                add_leaf_values(&mut value_scores, &value_leaf, &tree.leaf_values);
             }
             Self::update_scores(&mut scores, &tree, &learner, data);
-            if let (Some(vs), Some(vb)) = (valid_scores.as_mut(), valid_bins.as_ref()) {
+            if let (Some(vs), Some(vb)) = (valid_scores.as_mut(), valid_bins) {
                 vs.par_chunks_mut(CHUNK_ROWS).enumerate().for_each_init(
                     LeafWalk::default,
                     |walk, (c, s)| {
@@ -418,7 +499,7 @@ impl BoostedParams {
                 let valid_loss = valid_scores
                     .as_ref()
                     .zip(valid)
-                    .map(|(vs, (_, vy))| mean_log_loss(vs, vy, None));
+                    .map(|(vs, v)| mean_log_loss(vs, v.y, None));
                 history.push(EvalRecord {
                     round: done,
                     train_loss,
@@ -516,16 +597,9 @@ impl Boosted {
         let mut trees = Vec::with_capacity(self.trees.len());
         for tree in &self.trees {
             cancel.check()?;
-            let leaf_values = newton_leaf_values(
-                tree,
-                data,
-                rows,
-                y,
-                weights,
-                &mut scores,
-                &mut leaf_of,
-                params,
-            );
+            let sums = leaf_sums(tree, data, rows, y, weights, &scores, &mut leaf_of);
+            let leaf_values = newton_values(&sums, &tree.leaf_values, params);
+            add_leaf_values(&mut scores, &leaf_of, &leaf_values);
             trees.push(Tree {
                 nodes: tree.nodes.clone(),
                 leaf_values,

@@ -584,71 +584,123 @@ fn leaves_found_block_by_block_are_the_leaves_of_the_row_by_row_walk() {
 }
 
 #[test]
-fn leaf_values_from_the_growth_rows_themselves_change_nothing() {
-    // Valued on the very rows it grows on, each tree's Newton values are the ones growth
-    // computed from its histograms (the same sums, from f64 gradients rather than the f32
-    // ones growth stores), so the model and its early stopping must match the plain fit.
-    // f32 gradients carry about 6e-8 relative error each; a leaf whose gradients nearly
-    // cancel can lose a few digits more relative to its own small value, so the bound is
-    // relative to at least 0.1 (leaf values here are learning rate 0.1 × Newton steps).
+fn extra_value_rows_join_the_growth_rows_in_each_leafs_newton_value() {
+    // Grown on the first 2,000 rows, valued also on the other 2,000. By hand (log-loss
+    // boosting with second-order leaf values −G/(H + λ)·η; Friedman 2001, the usual Newton
+    // form): the starting margin is the log-odds of the mean label over all 4,000 rows, so
+    // every row has the same p in round 1, and leaf k's value is
+    // −Σ(p − y)/(Σ p(1 − p) + λ)·η over the rows of all 4,000 that land in leaf k.
     let (x, y) = esl_10_2(4000, 31);
-    let (vx, vy) = esl_10_2(1000, 32);
     let params = BoostedParams {
-        max_rounds: 200,
-        eval_every: 5,
+        max_rounds: 3,
         ..BoostedParams::default()
     };
-    let data = params.bin(&x).unwrap();
-    let valid = Some((&vx, &vy[..]));
-    let plain = params
-        .fit_binned(&data, &y, None, valid, &NoProgress, &Cancel::new())
-        .unwrap();
-    let values = ValueRows {
-        data: &data,
-        rows: None,
-        y: &y,
-        weights: None,
-    };
-    let valued = params
+    let first: Vec<usize> = (0..2000).collect();
+    let grow_x = x.select_rows(&first);
+    let grow = params.bin(&grow_x).unwrap();
+    let all = bins::BinnedData::new_like(&x, &grow);
+    let extra: Vec<u32> = (2000..4000).collect();
+    let model = params
         .fit_binned_valued(
-            &data,
-            &y,
-            None,
-            Some(values),
-            valid,
-            &NoProgress,
-            &Cancel::new(),
-        )
-        .unwrap();
-    assert_eq!(plain.best_rounds, valued.best_rounds);
-    for (a, b) in plain.trees.iter().zip(&valued.trees) {
-        // The same splits; gains are sums of the same slightly different gradients.
-        assert_eq!(a.nodes.len(), b.nodes.len());
-        for (m, k) in a.nodes.iter().zip(&b.nodes) {
-            let shape = |n: &tree::Node| (n.feature, n.threshold_bin, n.threshold, n.left, n.right);
-            assert_eq!(shape(m), shape(k));
-            assert!((m.gain - k.gain).abs() < 1e-6 * m.gain.abs().max(1.0));
-        }
-        for (u, v) in a.leaf_values.iter().zip(&b.leaf_values) {
-            assert!((u - v).abs() < 1e-6 * u.abs().max(0.1), "{u} vs {v}");
-        }
-    }
-    // Valued on other rows of another size, the margin starts from their labels.
-    let half: Vec<u32> = (0..2000).collect();
-    let other = params
-        .fit_binned_valued(
-            &data,
-            &y,
+            &grow,
+            &y[..2000],
             None,
             Some(ValueRows {
-                rows: Some(&half),
-                ..values
+                data: &all,
+                rows: Some(&extra),
+                y: &y,
+                weights: None,
             }),
             None,
             &NoProgress,
             &Cancel::new(),
         )
         .unwrap();
-    let mean = y[..2000].iter().map(|&v| f64::from(v)).sum::<f64>() / 2000.0;
-    assert!((other.base_score - (mean / (1.0 - mean)).ln()).abs() < 1e-9);
+    let mean = y.iter().map(|&v| f64::from(v)).sum::<f64>() / 4000.0;
+    assert!((model.base_score - (mean / (1.0 - mean)).ln()).abs() < 1e-12);
+    let tree = &model.trees[0];
+    let mut g = vec![0.0f64; tree.n_leaves()];
+    let mut h = vec![0.0f64; tree.n_leaves()];
+    for (i, &label) in y.iter().enumerate() {
+        let leaf = tree.leaf_binned(&all, i);
+        g[leaf] += mean - f64::from(label);
+        h[leaf] += mean * (1.0 - mean);
+    }
+    for k in 0..tree.n_leaves() {
+        let by_hand = -g[k] / (h[k] + params.l2_leaf) * params.learning_rate;
+        // The growth rows' part comes from f32 gradients (about 6e-8 relative each).
+        let got = tree.leaf_values[k];
+        assert!(
+            (got - by_hand).abs() < 1e-6 * by_hand.abs().max(0.1),
+            "leaf {k}: {got} vs {by_hand}"
+        );
+    }
+    // The same leaves, valued on half the rows, would differ: the extra rows count.
+    let alone = params
+        .fit_binned(&grow, &y[..2000], None, None, &NoProgress, &Cancel::new())
+        .unwrap();
+    let shape = |t: &Tree| -> Vec<(u32, u8)> {
+        t.nodes
+            .iter()
+            .map(|n| (n.feature, n.threshold_bin))
+            .collect()
+    };
+    assert_eq!(shape(&alone.trees[0]), shape(tree));
+    assert!(
+        alone.trees[0]
+            .leaf_values
+            .iter()
+            .zip(&tree.leaf_values)
+            .any(|(a, b)| (a - b).abs() > 1e-3)
+    );
+}
+
+#[test]
+fn no_extra_value_rows_is_the_plain_fit() {
+    // An empty list of value rows leaves the growth rows alone: the plain fit, with its early
+    // stopping (the validation rows binned beforehand, as training shares them).
+    let (x, y) = esl_10_2(3000, 33);
+    let (vx, vy) = esl_10_2(1000, 34);
+    let params = BoostedParams {
+        max_rounds: 200,
+        eval_every: 5,
+        ..BoostedParams::default()
+    };
+    let data = params.bin(&x).unwrap();
+    let plain = params
+        .fit_binned(
+            &data,
+            &y,
+            None,
+            Some((&vx, &vy[..])),
+            &NoProgress,
+            &Cancel::new(),
+        )
+        .unwrap();
+    let valid_bins = bins::BinnedData::for_prediction(&vx, &data);
+    let none: Vec<u32> = Vec::new();
+    let valued = params
+        .fit_binned_valued(
+            &data,
+            &y,
+            None,
+            Some(ValueRows {
+                data: &data,
+                rows: Some(&none),
+                y: &y,
+                weights: None,
+            }),
+            Some(Validation {
+                x: &vx,
+                y: &vy,
+                bins: Some(&valid_bins),
+            }),
+            &NoProgress,
+            &Cancel::new(),
+        )
+        .unwrap();
+    assert_eq!(
+        serde_json::to_string(&plain).unwrap(),
+        serde_json::to_string(&valued).unwrap()
+    );
 }

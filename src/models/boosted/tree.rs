@@ -211,12 +211,20 @@ pub struct TreeLearner {
     root_counts: Option<Vec<u64>>,
     /// Partial histograms of a leaf's row chunks.
     scratch: Vec<BinSums>,
+    /// Gradient, hessian and row totals of each leaf of the last grown tree.
+    leaf_totals: Vec<BinSums>,
 }
 
 impl TreeLearner {
     /// The partition of the last grown tree: leaf k of the tree owns `partition().rows(k)`.
     pub fn partition(&self) -> &DataPartition {
         &self.partition
+    }
+
+    /// Gradient, hessian and row totals of each leaf of the last grown tree (over the rows it
+    /// was grown on).
+    pub fn leaf_totals(&self) -> &[BinSums] {
+        &self.leaf_totals
     }
 
     fn take_buffer(&mut self, len: usize) -> Vec<BinSums> {
@@ -375,6 +383,8 @@ impl TreeLearner {
                 self.pool.push(h);
             }
         }
+        self.leaf_totals.clear();
+        self.leaf_totals.extend(leaves.iter().map(|l| l.totals));
         Tree {
             nodes,
             leaf_values: leaves
