@@ -47,8 +47,48 @@ impl BinEdges {
     }
 }
 
+/// Whole values from −`COUNTED` to `COUNTED` − 1 are counted rather than sorted when a sample
+/// holds nothing else (counts, differences of counts, turn numbers).
+const COUNTED: i32 = 1024;
+
+/// Each distinct value of a sample of whole numbers in −[`COUNTED`]..[`COUNTED`] (NaN ignored)
+/// with how often it occurs, in increasing order; `None` when some value is outside.
+fn count_whole_values(values: &[f32]) -> Option<Vec<(f32, usize)>> {
+    let mut counts = vec![0usize; 2 * COUNTED as usize];
+    for &v in values {
+        if v.is_nan() {
+            continue;
+        }
+        // Out-of-range and fractional values fail one of the two tests.
+        let k = v as i32;
+        if !(-COUNTED..COUNTED).contains(&k) || k as f32 != v {
+            return None;
+        }
+        counts[(k + COUNTED) as usize] += 1;
+    }
+    Some(
+        counts
+            .iter()
+            .enumerate()
+            .filter(|&(_, &n)| n > 0)
+            .map(|(k, &n)| ((k as i32 - COUNTED) as f32, n))
+            .collect(),
+    )
+}
+
 /// Edges for one feature from its sampled values; NaN values are ignored.
 pub fn edges_from_sample(mut values: Vec<f32>, max_bins: usize) -> BinEdges {
+    match count_whole_values(&values) {
+        Some(distinct) => edges_from_distinct(&distinct, max_bins),
+        None => {
+            values.retain(|v| !v.is_nan());
+            edges_from_distinct(&distinct_sorted(values), max_bins)
+        }
+    }
+}
+
+/// Each distinct value of `values` (no NaN) with its count, in increasing order.
+fn distinct_sorted(mut values: Vec<f32>) -> Vec<(f32, usize)> {
     // Zeros (most of a count column) are counted rather than sorted; ±0 are one value.
     let mut zeros = 0usize;
     values.retain(|&v| {
@@ -56,7 +96,7 @@ pub fn edges_from_sample(mut values: Vec<f32>, max_bins: usize) -> BinEdges {
             zeros += 1;
             false
         } else {
-            !v.is_nan()
+            true
         }
     });
     // Sorted as integers: the order of `f32::total_cmp`, compared faster.
@@ -80,6 +120,12 @@ pub fn edges_from_sample(mut values: Vec<f32>, max_bins: usize) -> BinEdges {
     for &v in &values[negatives..] {
         push(&mut distinct, v, 1);
     }
+    distinct
+}
+
+/// Edges from the distinct values of a sample and their counts (increasing): a bound between
+/// every two neighbours when they are at most `max_bins`, otherwise bins of about equal counts.
+fn edges_from_distinct(distinct: &[(f32, usize)], max_bins: usize) -> BinEdges {
     if distinct.len() <= 1 {
         return BinEdges { upper: Vec::new() };
     }
@@ -465,6 +511,42 @@ impl BinnedData {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn counted_whole_values_give_the_edges_sorting_gives() {
+        // Counts, differences of counts (negative) and ±0, with few and with many distinct
+        // values (more than the bins: the equal-count path), and a heavy zero.
+        let mut rng_state = 7u64;
+        let mut next = || {
+            rng_state = rng_state
+                .wrapping_mul(6364136223846793005)
+                .wrapping_add(1442695040888963407);
+            (rng_state >> 33) as i64
+        };
+        for (spread, zeros) in [(5i64, 0usize), (40, 300), (900, 2000)] {
+            let mut values: Vec<f32> = (0..5000)
+                .map(|_| (next() % (2 * spread + 1) - spread) as f32)
+                .collect();
+            values.extend(std::iter::repeat_n(0.0, zeros));
+            values.push(-0.0);
+            values.push(f32::NAN);
+            let counted = count_whole_values(&values).expect("whole values in range");
+            let mut present = values.clone();
+            present.retain(|v| !v.is_nan());
+            let sorted = distinct_sorted(present);
+            assert_eq!(counted, sorted);
+            for max_bins in [16, 255] {
+                assert_eq!(
+                    edges_from_sample(values.clone(), max_bins),
+                    edges_from_distinct(&sorted, max_bins)
+                );
+            }
+        }
+        // A fraction, or a value past the counted range, is sorted instead.
+        assert!(count_whole_values(&[1.0, 2.5]).is_none());
+        assert!(count_whole_values(&[1.0, 5000.0]).is_none());
+        assert!(count_whole_values(&[f32::INFINITY]).is_none());
+    }
 
     #[test]
     fn few_distinct_values_get_one_bin_each_with_zero_in_bin_0() {
