@@ -3,6 +3,7 @@
 
 use serde::{Deserialize, Serialize};
 
+use super::super::matrix::Matrix;
 use super::bins::BinnedData;
 use super::histogram::{self, BinSums, LeafRows};
 use super::params::BoostedParams;
@@ -136,6 +137,40 @@ impl LeafWalk {
         m: usize,
         row_of: impl Fn(usize) -> usize,
     ) -> &[u32] {
+        let row_of = &row_of;
+        self.split_block(tree, m, |node| {
+            let column = data.column(node.feature as usize);
+            let threshold = node.threshold_bin;
+            move |k| column[row_of(k)] <= threshold
+        })
+    }
+
+    /// [`Self::leaves`] of the raw rows `first..first + m` of `x` (NaN goes left): the same
+    /// leaves as [`Tree::predict_row`] reaches.
+    pub fn leaves_of_raw_rows(
+        &mut self,
+        tree: &Tree,
+        x: &Matrix,
+        first: usize,
+        m: usize,
+    ) -> &[u32] {
+        self.split_block(tree, m, |node| {
+            let (feature, threshold) = (node.feature as usize, node.threshold);
+            move |k| {
+                let v = x.row(first + k)[feature];
+                v.is_nan() || v <= threshold
+            }
+        })
+    }
+
+    /// Splits the positions `0..m` node by node; `test(node)` gives the node's question
+    /// "does position k go left?".
+    fn split_block<'t, T: Fn(usize) -> bool>(
+        &mut self,
+        tree: &'t Tree,
+        m: usize,
+        test: impl Fn(&'t Node) -> T,
+    ) -> &[u32] {
         self.leaves.clear();
         self.leaves.resize(m, 0);
         if tree.nodes.is_empty() || m == 0 {
@@ -155,18 +190,17 @@ impl LeafWalk {
                 continue;
             }
             let node = &tree.nodes[at as usize];
-            let column = data.column(node.feature as usize);
-            let threshold = node.threshold_bin;
+            let goes_left = test(node);
             // Every position is written to both sides; only the side it belongs to advances.
             // Writing left at `n_left ≤ read` never overwrites a position not yet read.
             let (mut n_left, mut n_right) = (begin, 0);
             for read in begin..end {
                 let k = self.positions[read];
-                let goes_left = usize::from(column[row_of(k as usize)] <= threshold);
+                let left = usize::from(goes_left(k as usize));
                 self.positions[n_left] = k;
                 self.right[n_right] = k;
-                n_left += goes_left;
-                n_right += 1 - goes_left;
+                n_left += left;
+                n_right += 1 - left;
             }
             self.positions[n_left..end].copy_from_slice(&self.right[..n_right]);
             self.stack.push((node.right, n_left, end));
