@@ -1228,9 +1228,12 @@ pub fn train(
         .is_some_and(|g| g.binned.get().is_some())
         && final_data.binned.get().is_some();
     // The tuned boosted candidate with rounds left to early stopping, for the curve's fits.
+    // Evaluated twice as often as the win model, like the draw model: a fit on a small
+    // subset keeps few trees, and the patience then costs half as many unused ones.
     let curve_candidate = match (&chosen, &valid_data) {
         (Chosen::Boosted(p), Some(_)) => Chosen::Boosted(BoostedParams {
             max_rounds: options.boosted.max_rounds,
+            eval_every: p.eval_every.div_ceil(2),
             ..p.clone()
         }),
         _ => chosen.clone(),
