@@ -372,18 +372,25 @@ impl BinnedData {
                         )
                     })
                     .collect();
+                // Sized exactly by a count first, then filled without a branch on the data:
+                // every bin is written at the cursor, which moves on only past non-zero bins.
+                let entries: usize = cols
+                    .iter()
+                    .map(|(col, _)| col.iter().filter(|&&b| b != 0).count())
+                    .sum();
+                let mut slots = vec![0u16; entries + 1];
                 let mut row_start = Vec::with_capacity(n + 1);
-                let mut slots = Vec::new();
                 row_start.push(0u32);
+                let mut at = 0usize;
                 for i in 0..n {
                     for &(col, base) in &cols {
                         let b = col[i];
-                        if b != 0 {
-                            slots.push(base + u16::from(b));
-                        }
+                        slots[at] = base + u16::from(b);
+                        at += usize::from(b != 0);
                     }
-                    row_start.push(slots.len() as u32);
+                    row_start.push(at as u32);
                 }
+                slots.truncate(entries);
                 FeatureGroup {
                     features,
                     first_slot,
