@@ -705,7 +705,7 @@ pub fn score_sessions(
         let x = Matrix::new(table.rows.len(), table.columns.len(), values)
             .unwrap_or_else(|_| Matrix::zeros(0, table.columns.len()));
         let chances = model.chances_of(&table.rows, &x);
-        traces.extend(model.traces_from(&table, &chances, |k| {
+        traces.extend(model.traces_from(&table.rows, &chances, |k| {
             source(k.set as usize, k.session as usize)
         }));
     }
@@ -1385,15 +1385,26 @@ pub fn train(
     progress.report("final fit", 1.0);
     ctx.timings.stage("final fit", stage_start);
 
-    // Traces: test share by the final model; training sessions cross-fitted.
+    // Traces: test share by the final model; training sessions cross-fitted. When every turn
+    // is fitted, the test rows are built once, for the traces and the learning curve; a set
+    // too large for that is scored in bounded chunks.
+    let every_turn_test = (ctx.sample == TurnSample::All)
+        .then(|| ctx.data(&test_sessions, false))
+        .transpose()?;
     let t0 = Instant::now();
-    let mut traces = score_sessions(
-        &model,
-        sets,
-        &test_sessions,
-        |_, _| TraceSource::Test,
-        cancel,
-    )?;
+    let mut traces = match &every_turn_test {
+        Some(test) => {
+            let chances = model.chances_of(&test.rows, &test.x);
+            model.traces_from(&test.rows, &chances, |_| TraceSource::Test)
+        }
+        None => score_sessions(
+            &model,
+            sets,
+            &test_sessions,
+            |_, _| TraceSource::Test,
+            cancel,
+        )?,
+    };
     ctx.timings.score += t0.elapsed().as_secs_f64();
     if options.cross_fit {
         let stage_start = Instant::now();
@@ -1450,7 +1461,10 @@ pub fn train(
     let mut learning_curve = Vec::new();
     if want_curve {
         let stage_start = Instant::now();
-        let test_data = ctx.data(&test_sessions, false)?;
+        let test_data = match every_turn_test {
+            Some(test) => test,
+            None => ctx.data(&test_sessions, false)?,
+        };
         for (&sessions, fitted) in smaller.iter().zip(curve_fits) {
             learning_curve.push(LearningPoint {
                 sessions,

@@ -162,16 +162,17 @@ impl WinModel {
         (c.win, draw)
     }
 
-    /// Turn per-row chances into one trace per session, in table order.
+    /// Turn per-row chances into one trace per session, in the order of `rows` (a turn
+    /// table's keys).
     pub fn traces_from(
         &self,
-        table: &TurnTable,
+        rows: &[RowKey],
         chances: &RowChances,
         source: impl Fn(&RowKey) -> TraceSource,
     ) -> Vec<Trace> {
         let mut traces: Vec<Trace> = Vec::new();
         let mut starts: std::collections::HashMap<usize, Vec<f64>> = Default::default();
-        for (i, k) in table.rows.iter().enumerate() {
+        for (i, k) in rows.iter().enumerate() {
             let same = traces.last().is_some_and(|t: &Trace| {
                 t.set == k.set as usize && t.session == k.session as usize
             });
