@@ -361,31 +361,18 @@ fn build_rows(
         })
         .collect();
     cancel.check()?;
-    let parts: Vec<(Vec<RowKey>, Vec<f32>)> = parts.into_iter().flatten().collect();
-    let total: usize = parts.iter().map(|p| p.0.len()).sum();
-    let mut rows = Vec::with_capacity(total);
-    for (keys, _) in &parts {
-        rows.extend_from_slice(keys);
-    }
-    // The values (the bulk) are copied into place in parallel, each session's part into its
-    // own slice of the table, in list order.
-    let mut values = vec![0f32; parts.iter().map(|p| p.1.len()).sum()];
-    let mut rest = &mut values[..];
-    let mut slices = Vec::with_capacity(parts.len());
-    for (_, v) in &parts {
-        let (head, tail) = std::mem::take(&mut rest).split_at_mut(v.len());
-        slices.push(head);
-        rest = tail;
-    }
-    slices
-        .into_par_iter()
-        .zip(parts.par_iter())
-        .for_each(|(out, (_, v))| out.copy_from_slice(v));
-    Ok(TurnTable {
+    let total: usize = parts.iter().flatten().map(|p| p.0.len()).sum();
+    let mut table = TurnTable {
         columns: spec.column_names(),
-        rows,
-        values,
-    })
+        rows: Vec::with_capacity(total),
+        values: Vec::with_capacity(total * spec.width()),
+    };
+    // Joined in order, each session's part freed as soon as it is copied.
+    for (keys, values) in parts.into_iter().flatten() {
+        table.rows.extend(keys);
+        table.values.extend(values);
+    }
+    Ok(table)
 }
 
 /// The rows of one session alone (for scoring a session that is still being written).
