@@ -1278,25 +1278,20 @@ pub fn train(
                     cancel,
                 )
             }
-            (Chosen::Boosted(_), Some(valid), None) => {
+            // Every turn of the subset (logistic fits take no validation rows).
+            _ => {
                 let all = final_data.sessions_subset(&sessions);
                 fit_one(
                     &curve_candidate,
                     &all,
                     &all.won,
                     None,
-                    Some(valid),
+                    valid,
                     None,
                     None,
                     &ctx.bins,
                     &quiet,
                     cancel,
-                )
-            }
-            _ => {
-                let all = final_data.sessions_subset(&sessions);
-                fit_one(
-                    &chosen, &all, &all.won, None, None, None, None, &ctx.bins, &quiet, cancel,
                 )
             }
         }
