@@ -397,18 +397,6 @@ impl Ctx<'_> {
         sample: TurnSample,
     ) -> Result<Data, TrainError> {
         let t0 = Instant::now();
-        let data = self.build(sessions, fitting, sample)?;
-        self.timings.features += t0.elapsed().as_secs_f64();
-        Ok(data)
-    }
-
-    /// Rows, matrix and labels of some sessions, untimed (for work beside other work).
-    fn build(
-        &self,
-        sessions: &[(usize, usize)],
-        fitting: bool,
-        sample: TurnSample,
-    ) -> Result<Data, TrainError> {
         let mut table = if fitting {
             build_training_table(&self.spec, self.sets, sessions, sample, self.cancel)?
         } else {
@@ -418,13 +406,14 @@ impl Ctx<'_> {
         let values = std::mem::take(&mut table.values);
         let x = Matrix::new(table.rows.len(), table.columns.len(), values)?;
         let (won, draw) = labels(self.sets, &table);
+        self.timings.features += t0.elapsed().as_secs_f64();
         Ok(Data::new(table.rows, x, won, draw))
     }
 
     /// Fit the win model (and a draw model when the sessions have draws) on the sessions as
     /// tuning fitted them: boosted trees grown on `grow` turns when given (each tree's leaf
-    /// values set on every turn), otherwise on every turn; returns the models and the number
-    /// of turn rows whose labels they were fitted to.
+    /// values set with the other turns too), otherwise on every turn; returns the models and
+    /// the number of turn rows whose labels they were fitted to.
     fn fit(
         &mut self,
         chosen: &Chosen,
@@ -434,22 +423,20 @@ impl Ctx<'_> {
         with_draw: bool,
     ) -> Result<(Fitted, Option<Fitted>, usize), TrainError> {
         let data = self.data(sessions, true)?;
-        let grown = match (chosen, grow) {
-            (Chosen::Boosted(_), Some(sample)) => {
-                let grow = self.data_sampled(sessions, true, sample)?;
-                let like = grow.binned(&self.bins)?;
-                let _ = data.binned.set(BinnedData::new_like(&data.x, like));
-                Some(grow)
-            }
-            _ => None,
-        };
+        let fitted_rows = data.rows.len();
         let t0 = Instant::now();
-        let (win, draw) = match &grown {
-            Some(grow) => self.fit_data(chosen, grow, stage, with_draw, None, Some(&data))?,
-            None => self.fit_data(chosen, &data, stage, with_draw, None, None)?,
+        let (win, draw) = match (chosen, grow) {
+            (Chosen::Boosted(_), Some(sample)) => {
+                // Built once; the growth rows are picked from every row, like tuning's.
+                let whole = WholeRows::split(data, &[], self.sets, sample);
+                let grow_rows = whole.all.select(&whole.grow);
+                whole.bin(&grow_rows, &self.bins)?;
+                self.fit_data(chosen, &grow_rows, stage, with_draw, None, Some(&whole))?
+            }
+            _ => self.fit_data(chosen, &data, stage, with_draw, None, None)?,
         };
         self.timings.fit += t0.elapsed().as_secs_f64();
-        Ok((win, draw, data.rows.len()))
+        Ok((win, draw, fitted_rows))
     }
 
     /// Boosted win (and draw) models with their leaf values set again on every row of `data`
@@ -482,7 +469,8 @@ impl Ctx<'_> {
     /// Fit the win model (and a draw model when asked and the rows have draws) on prepared
     /// data, with the rounds chosen by tuning; a logistic win model starts from `warm` (a fit
     /// of the same penalty on some of the rows) when given; boosted trees take their leaf
-    /// values from every row of `values` when given (binned with `data`'s edges).
+    /// values with the leaf-value rows of `values` too when given (`data` being its growth
+    /// rows).
     fn fit_data(
         &self,
         chosen: &Chosen,
@@ -490,21 +478,13 @@ impl Ctx<'_> {
         stage: &str,
         with_draw: bool,
         warm: Option<&Fitted>,
-        values: Option<&Data>,
+        values: Option<&WholeRows>,
     ) -> Result<(Fitted, Option<Fitted>), TrainError> {
         let progress = StageProgress {
             inner: self.progress,
             stage,
         };
-        let value_rows = |draw: bool| -> Option<ValueRows> {
-            let v = values?;
-            Some(ValueRows {
-                data: v.binned.get()?,
-                rows: None,
-                y: if draw { &v.draw } else { &v.won },
-                weights: None,
-            })
-        };
+        let value_rows = |draw: bool| values.and_then(|w| w.values(draw));
         let win = fit_one(
             chosen,
             data,
@@ -519,7 +499,7 @@ impl Ctx<'_> {
         )?;
         // The draw model is of the same kind as the win model: draws can depend on the
         // position as non-linearly as wins do.
-        let has_draws = values.map_or(data.has_draws(), Data::has_draws);
+        let has_draws = values.map_or(data.has_draws(), |w| w.all.has_draws());
         let draw_model = if with_draw && has_draws {
             Some(fit_one(
                 chosen,
@@ -624,8 +604,9 @@ struct BoostedTuning {
     bin_seconds: f64,
 }
 
-/// Every training row (every fitted turn of every training session, with the start rows),
-/// built once when tuning has one validation fold, and which of them play which part.
+/// Every row a boosted fit on sampled turns draws on (every fitted turn of its sessions, with
+/// the start rows), built once, and which of them play which part: tuning's with one
+/// validation fold, and each cross-fitting fit's (no validation sessions).
 struct WholeRows {
     /// The rows; their bins, once made, have the growth rows' edges.
     all: Data,
@@ -671,9 +652,24 @@ impl WholeRows {
         }
     }
 
-    /// The growth rows' positions as bin-row indices.
-    fn grow_u32(&self) -> Vec<u32> {
-        self.grow.iter().map(|&i| i as u32).collect()
+    /// Bins every row with edges found on the growth rows `grow_rows` (picked from `all` at
+    /// `grow`), and gives those rows their bins from the same pass.
+    fn bin(&self, grow_rows: &Data, bins: &BoostedParams) -> Result<(), TrainError> {
+        let binned = bins.bin_with_edges_of(&self.all.x, &grow_rows.x)?;
+        let grow: Vec<u32> = self.grow.iter().map(|&i| i as u32).collect();
+        let _ = grow_rows.binned.set(binned.select_rows(&grow));
+        let _ = self.all.binned.set(binned);
+        Ok(())
+    }
+
+    /// The leaf-value rows with win or draw labels, once every row is binned.
+    fn values(&self, draw: bool) -> Option<ValueRows<'_>> {
+        Some(ValueRows {
+            data: self.all.binned.get()?,
+            rows: Some(&self.extra),
+            y: if draw { &self.all.draw } else { &self.all.won },
+            weights: None,
+        })
     }
 }
 
@@ -917,24 +913,13 @@ pub fn train(
     // the growth rows' bins are picked from those. Done by the boosted side of the join
     // below, beside the logistic path.
     let bin_whole = || -> Result<(), TrainError> {
-        let (Some(w), Some((grow_rows, _))) = (&whole, fold_data.first()) else {
-            return Ok(());
-        };
-        let binned = ctx.bins.bin_with_edges_of(&w.all.x, &grow_rows.x)?;
-        let _ = grow_rows.binned.set(binned.select_rows(&w.grow_u32()));
-        let _ = w.all.binned.set(binned);
-        Ok(())
+        match (&whole, fold_data.first()) {
+            (Some(w), Some((grow_rows, _))) => w.bin(grow_rows, &ctx.bins),
+            _ => Ok(()),
+        }
     };
     // The rows that join the first fold's growth rows in setting leaf values.
-    let fold_values = |draw: bool| -> Option<ValueRows> {
-        let w = whole.as_ref()?;
-        Some(ValueRows {
-            data: w.all.binned.get()?,
-            rows: Some(&w.extra),
-            y: if draw { &w.all.draw } else { &w.all.won },
-            weights: None,
-        })
-    };
+    let fold_values = |draw: bool| whole.as_ref().and_then(|w| w.values(draw));
     // The logistic path and the boosted candidates run side by side (each fit is
     // deterministic, and the results are merged in candidate order, so the choice is the
     // same at any thread count); the path itself is sequential, each penalty warm-started.
@@ -1219,14 +1204,12 @@ pub fn train(
         None => (ctx.data(&train_sessions, true)?, None, None, Vec::new()),
     };
     let trained_rows = final_data.rows.len();
-    // The tuned trees can take new leaf values on the final rows, binned with their edges.
+    // The tuned trees can take new leaf values on the final rows once those are binned with
+    // their edges (with the growth rows' bins, by `WholeRows::bin`).
     let refit_tuned = matches!(
         (&chosen, tuning_model.as_ref()),
         (Chosen::Boosted(_), Some(Fitted::Boosted(_)))
-    ) && tuning_fit
-        .as_ref()
-        .is_some_and(|g| g.binned.get().is_some())
-        && final_data.binned.get().is_some();
+    ) && final_data.binned.get().is_some();
     // The tuned boosted candidate with rounds left to early stopping, for the curve's fits.
     // Evaluated twice as often as the win model, like the draw model: a fit on a small
     // subset keeps few trees, and the patience then costs half as many unused ones.
