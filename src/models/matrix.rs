@@ -93,22 +93,6 @@ impl Matrix {
             values,
         }
     }
-
-    /// Appends `other`'s rows after this matrix's rows; fails (changing nothing) when the
-    /// column counts differ.
-    pub fn append(&mut self, other: &Matrix) -> Result<(), FitError> {
-        if other.n_cols != self.n_cols {
-            return Err(FitError::ColumnMismatch {
-                what: "appended rows",
-                expected: self.n_cols,
-                actual: other.n_cols,
-            });
-        }
-        self.values.reserve_exact(other.values.len());
-        self.values.extend_from_slice(&other.values);
-        self.n_rows += other.n_rows;
-        Ok(())
-    }
 }
 
 #[cfg(test)]
@@ -121,16 +105,6 @@ mod tests {
             Matrix::new(2, 3, vec![0.0; 5]),
             Err(FitError::MatrixShape { expected: 6, .. })
         ));
-    }
-
-    #[test]
-    fn append_stacks_rows_and_refuses_other_widths() {
-        let mut m = Matrix::new(1, 2, vec![1.0, 2.0]).unwrap();
-        m.append(&Matrix::new(2, 2, vec![3.0, 4.0, 5.0, 6.0]).unwrap())
-            .unwrap();
-        assert_eq!((m.n_rows(), m.row(2)), (3, &[5.0f32, 6.0][..]));
-        assert!(m.append(&Matrix::zeros(1, 3)).is_err());
-        assert_eq!(m.n_rows(), 3);
     }
 
     #[test]

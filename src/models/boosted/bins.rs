@@ -328,7 +328,7 @@ impl BinnedData {
         Self::assemble(x.n_rows(), edges, columns, &layout)
     }
 
-    /// Bins `x` with `like`'s edges and feature groups, so the result can be appended to it.
+    /// Bins `x` with `like`'s edges and feature groups.
     pub fn new_like(x: &Matrix, like: &BinnedData) -> Self {
         let columns = bin_columns(x, &like.edges);
         let layout: Vec<_> = like.groups.iter().map(|g| g.features.clone()).collect();
@@ -407,47 +407,6 @@ impl BinnedData {
             groups,
             offsets,
         }
-    }
-
-    /// Appends `other`'s rows after this data's rows. Both must have the same edges and feature
-    /// groups (as `other` made by [`BinnedData::new_like`] with `self`), and the rows together
-    /// must stay within the u32 entry offsets (`u32::MAX / MAX_FEATURES_PER_GROUP` rows);
-    /// otherwise returns `false` and leaves `self` unchanged.
-    pub fn append(&mut self, other: &BinnedData) -> bool {
-        let (n1, n2) = (self.n_rows, other.n_rows);
-        let n = n1 + n2;
-        let same_groups = self.groups.len() == other.groups.len()
-            && self
-                .groups
-                .iter()
-                .zip(&other.groups)
-                .all(|(a, b)| a.features == b.features);
-        if other.edges != self.edges
-            || !same_groups
-            || n > u32::MAX as usize / MAX_FEATURES_PER_GROUP
-        {
-            return false;
-        }
-        let mut columns = vec![0u8; n * self.n_features()];
-        columns
-            .par_chunks_mut(n.max(1))
-            .enumerate()
-            .for_each(|(j, out)| {
-                out[..n1].copy_from_slice(&self.columns[j * n1..(j + 1) * n1]);
-                out[n1..].copy_from_slice(&other.columns[j * n2..(j + 1) * n2]);
-            });
-        self.columns = columns;
-        self.groups
-            .par_iter_mut()
-            .zip(&other.groups)
-            .for_each(|(g, o)| {
-                let base = g.slots.len() as u32;
-                g.slots.extend_from_slice(&o.slots);
-                g.row_start
-                    .extend(o.row_start[1..].iter().map(|&s| s + base));
-            });
-        self.n_rows = n;
-        true
     }
 
     /// The rows `rows` (in that order) of this binned data, with the same edges: what
@@ -632,25 +591,6 @@ mod tests {
             })
             .collect();
         Matrix::new(rows, 5, values).unwrap()
-    }
-
-    #[test]
-    fn appended_rows_equal_binning_the_stacked_matrix() {
-        let (a, b) = (counts(40, 0), counts(25, 3));
-        let edges = find_edges(&a, 255, 1);
-        let mut joined = BinnedData::new(&a, edges.clone());
-        assert!(joined.append(&BinnedData::new_like(&b, &joined)));
-        let mut stacked = a.clone();
-        stacked.append(&b).unwrap();
-        // Binning the stacked raw rows with the same edges and groups gives the same data.
-        assert_eq!(
-            joined,
-            BinnedData::new_like(&stacked, &BinnedData::new(&a, edges))
-        );
-        // Other edges are refused, and nothing changes.
-        let before = joined.clone();
-        assert!(!joined.append(&BinnedData::new(&b, find_edges(&b, 3, 1))));
-        assert_eq!(joined, before);
     }
 
     #[test]
