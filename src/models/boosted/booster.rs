@@ -257,19 +257,7 @@ impl BoostedParams {
     /// One binned copy serves every fit with the same bin settings on the same rows (a win
     /// model and its draw model, or tuning candidates that differ only in tree size).
     pub fn bin(&self, x: &Matrix) -> Result<BinnedData, FitError> {
-        self.check()?;
-        if x.n_cols() == 0 {
-            return Err(FitError::Empty("the matrix has no columns"));
-        }
-        // Rows are indexed by u32, and each feature group's entry offsets are u32 too.
-        let max_rows = u32::MAX as usize / MAX_FEATURES_PER_GROUP;
-        if x.n_rows() > max_rows {
-            return Err(FitError::TooManyRows {
-                rows: x.n_rows(),
-                max: max_rows,
-            });
-        }
-        Ok(BinnedData::new(x, find_edges(x, self.max_bins, self.seed)))
+        self.bin_with_edges_of(x, x)
     }
 
     /// Bins `x` with the edges [`Self::bin`] would find on `sample` (such as some of `x`'s
@@ -286,6 +274,7 @@ impl BoostedParams {
                 actual: x.n_cols(),
             });
         }
+        // Rows are indexed by u32, and each feature group's entry offsets are u32 too.
         let max_rows = u32::MAX as usize / MAX_FEATURES_PER_GROUP;
         if x.n_rows() > max_rows {
             return Err(FitError::TooManyRows {

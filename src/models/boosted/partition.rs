@@ -59,30 +59,43 @@ impl DataPartition {
         let new_leaf = self.begin.len();
         let begin = self.begin[leaf];
         let end = begin + self.count[leaf];
-        self.scratch.clear();
-        self.scratch.resize(end - begin, 0);
-        // Every row is written to both sides and only its own side's cursor moves on, so
-        // nothing branches on the data (about every other row would mispredict). Writing
-        // left at `write ≤ read` never overwrites a row not yet read.
-        let (mut write, mut n_right) = (begin, 0);
-        for read in begin..end {
-            let r = self.indices[read];
-            let left = usize::from(column[r as usize] <= threshold_bin);
-            self.indices[write] = r;
-            self.scratch[n_right] = r;
-            write += left;
-            n_right += 1 - left;
-        }
-        self.scratch.truncate(n_right);
-        for &r in &self.scratch {
+        let n_left = split_stable(&mut self.indices[begin..end], &mut self.scratch, |r| {
+            column[r as usize] <= threshold_bin
+        });
+        let write = begin + n_left;
+        for &r in &self.indices[write..end] {
             self.leaf_of[r as usize] = new_leaf as u32;
         }
-        self.indices[write..end].copy_from_slice(&self.scratch);
         self.count[leaf] = write - begin;
         self.begin.push(write);
         self.count.push(end - write);
         new_leaf
     }
+}
+
+/// Reorders `items` stably: those for which `goes_left` holds first, then the others;
+/// returns how many went left. Every item is written to both sides and only its own side's
+/// cursor moves on, so nothing branches on the data (about every other item would
+/// mispredict). Writing left at `n_left ≤ read` never overwrites an item not yet read.
+/// `scratch` holds the right side on the way (its contents are replaced).
+pub fn split_stable(
+    items: &mut [u32],
+    scratch: &mut Vec<u32>,
+    goes_left: impl Fn(u32) -> bool,
+) -> usize {
+    scratch.clear();
+    scratch.resize(items.len(), 0);
+    let (mut n_left, mut n_right) = (0, 0);
+    for read in 0..items.len() {
+        let item = items[read];
+        let left = usize::from(goes_left(item));
+        items[n_left] = item;
+        scratch[n_right] = item;
+        n_left += left;
+        n_right += 1 - left;
+    }
+    items[n_left..].copy_from_slice(&scratch[..n_right]);
+    n_left
 }
 
 #[cfg(test)]

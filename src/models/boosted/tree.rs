@@ -7,7 +7,7 @@ use super::super::matrix::Matrix;
 use super::bins::BinnedData;
 use super::histogram::{self, BinSums, LeafRows};
 use super::params::BoostedParams;
-use super::partition::DataPartition;
+use super::partition::{DataPartition, split_stable};
 use super::split::{SplitCandidate, best_split, leaf_value};
 
 /// An internal node. A child index `c ≥ 0` is a node, `c < 0` is leaf `!c`.
@@ -116,7 +116,7 @@ impl Tree {
 pub struct LeafWalk {
     /// Positions of the block, each node's rows a contiguous, increasing segment.
     positions: Vec<u32>,
-    /// The right-going positions of the node being split.
+    /// The right-going positions of the node being split, on the way.
     right: Vec<u32>,
     /// Nodes (or leaves) still to visit, with their segment.
     stack: Vec<(i32, usize, usize)>,
@@ -178,7 +178,6 @@ impl LeafWalk {
         }
         self.positions.clear();
         self.positions.extend(0..m as u32);
-        self.right.resize(m, 0);
         self.stack.clear();
         self.stack.push((0, 0, m));
         while let Some((at, begin, end)) = self.stack.pop() {
@@ -191,18 +190,10 @@ impl LeafWalk {
             }
             let node = &tree.nodes[at as usize];
             let goes_left = test(node);
-            // Every position is written to both sides; only the side it belongs to advances.
-            // Writing left at `n_left ≤ read` never overwrites a position not yet read.
-            let (mut n_left, mut n_right) = (begin, 0);
-            for read in begin..end {
-                let k = self.positions[read];
-                let left = usize::from(goes_left(k as usize));
-                self.positions[n_left] = k;
-                self.right[n_right] = k;
-                n_left += left;
-                n_right += 1 - left;
-            }
-            self.positions[n_left..end].copy_from_slice(&self.right[..n_right]);
+            let n_left = begin
+                + split_stable(&mut self.positions[begin..end], &mut self.right, |k| {
+                    goes_left(k as usize)
+                });
             self.stack.push((node.right, n_left, end));
             self.stack.push((node.left, begin, n_left));
         }
